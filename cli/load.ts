@@ -1,0 +1,35 @@
+import { hasErrors, loadDesign, type Design, type Diagnostic } from '../lib/index.js';
+import { formatDiagnostics } from './diagnostics.js';
+import { fileLoader, type CliIo } from './io.js';
+import { chalkFor } from './style.js';
+
+/** Exit codes of every command. */
+export const EXIT = { ok: 0, failed: 1, badInput: 2 } as const;
+
+export interface GlobalOptions {
+  checkModel?: boolean;
+}
+
+/**
+ * Reads and expands the design in `file` for a command, printing its diagnostics to stderr.
+ * Returns the design, or undefined when it has errors (the command then exits with 2).
+ */
+export function loadForCommand(file: string, io: CliIo, options: GlobalOptions): Design | undefined {
+  const chalk = chalkFor(io, 'stderr');
+  let text: string;
+  try {
+    text = io.readFile(file);
+  } catch (e) {
+    io.stderr(`${chalk.red.bold('error')}: cannot read ${file}: ${(e as Error).message} [file-unreadable]\n`);
+    return undefined;
+  }
+  const loaded = loadDesign(file, text, { loader: fileLoader(io), checkModel: options.checkModel ?? false });
+  report(loaded.diagnostics, loaded.sources, io);
+  return loaded.ok ? loaded.design : undefined;
+}
+
+function report(diagnostics: Diagnostic[], sources: Map<string, string>, io: CliIo): void {
+  if (diagnostics.length === 0) return;
+  io.stderr(formatDiagnostics(diagnostics, sources, chalkFor(io, 'stderr')) + '\n');
+  if (hasErrors(diagnostics)) io.stderr('the design has errors; nothing was analysed\n');
+}

@@ -1,0 +1,71 @@
+import { Command, CommanderError } from 'commander';
+import { processIo, type CliIo } from './io.js';
+import { EXIT } from './load.js';
+import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
+import { TUBES_SUMMARY, runTubes } from './tubes.js';
+
+const EXAMPLES = `
+Examples:
+  tubemargin show nets/crate-tally.tube          the expanded design, nets and loops
+  tubemargin show nets/crate-tally.tube --json   the same as tubemargin.design/1 JSON
+  tubemargin show design.json                    JSON designs are read wherever text is
+  tubemargin tubes                               the tube library
+
+Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
+
+/**
+ * Runs the command line `argv` (without the node and script names) against `io`; resolves
+ * to the exit code. Never throws for bad input: unknown commands or options print a
+ * message and give 2.
+ */
+export async function runCli(argv: string[], io: CliIo): Promise<number> {
+  let code: number = EXIT.ok;
+  const program = new Command();
+  program
+    .name('tubemargin')
+    .description('Worst-case levels and noise margins for resistor-coupled vacuum-tube logic.')
+    .version('0.1.0')
+    .option('--check-model', 'also run the internal consistency check of the design model (for debugging)')
+    .addHelpText('after', EXAMPLES)
+    .exitOverride()
+    .configureOutput({ writeOut: io.stdout, writeErr: io.stderr })
+    .showHelpAfterError('(run tubemargin --help for the commands)');
+
+  program
+    .command('show')
+    .summary(SHOW_SUMMARY)
+    .description(SHOW_SUMMARY + '\n' + SHOW_HELP)
+    .argument('<file>', 'design file (.tube text or .json)')
+    .option('--json', 'print the flat design as tubemargin.design/1 JSON')
+    .action((file: string, opts: { json?: boolean }) => {
+      code = runShow(file, { ...program.opts(), ...opts }, io);
+    });
+
+  program
+    .command('tubes')
+    .summary(TUBES_SUMMARY)
+    .description(TUBES_SUMMARY)
+    .option('--json', 'print the library as JSON')
+    .action((opts: { json?: boolean }) => {
+      code = runTubes(opts, io);
+    });
+
+  try {
+    await program.parseAsync(argv, { from: 'user' });
+  } catch (e) {
+    if (e instanceof CommanderError) {
+      if (e.code === 'commander.helpDisplayed' || e.code === 'commander.version' || e.code === 'commander.help') return EXIT.ok;
+      return EXIT.badInput;
+    }
+    io.stderr(`internal error: ${(e as Error).stack ?? String(e)}\nplease report this with the design that caused it\n`);
+    return 3;
+  }
+  return code;
+}
+
+/** Entry point of the `tubemargin` binary. */
+export function runFromProcess(): void {
+  runCli(process.argv.slice(2), processIo()).then((code) => {
+    process.exitCode = code;
+  });
+}

@@ -1,0 +1,181 @@
+import type { Expr } from '../netlist/ast.js';
+import {
+  DIMENSIONLESS,
+  describeDimension,
+  isDimensionless,
+  multiplyDimensions,
+  parseUnitSuffix,
+  sameDimension,
+  type Dimension,
+} from '../netlist/units.js';
+import { error, type Diagnostic } from '../source/diagnostic.js';
+import type { SourceSpan } from '../source/span.js';
+import { didYouMean } from '../source/suggest.js';
+
+/** A number with its physical dimension. */
+export interface Quantity {
+  value: number;
+  dim: Dimension;
+}
+
+/** Named values visible at one place: a chain of scopes, innermost first. */
+export class ValueScope {
+  private readonly values = new Map<string, Quantity>();
+
+  constructor(private readonly parent?: ValueScope) {}
+
+  define(name: string, q: Quantity): void {
+    this.values.set(name, q);
+  }
+
+  hasOwn(name: string): boolean {
+    return this.values.has(name);
+  }
+
+  lookup(name: string): Quantity | undefined {
+    return this.values.get(name) ?? this.parent?.lookup(name);
+  }
+
+  names(): string[] {
+    return [...this.values.keys(), ...(this.parent?.names() ?? [])];
+  }
+}
+
+/**
+ * Evaluates an expression of the design language: numbers with units, named values, `+ - * /`
+ * and `mod`. Nothing else exists in the language, so nothing can reach outside the design.
+ * Returns undefined (with a diagnostic, unless the cause was already reported) when the
+ * value cannot be computed.
+ *
+ * Example: `33 k * 2` is `{ value: 66000, dim: DIMENSIONLESS }`; `24 V + 1 A` is a unit mismatch.
+ */
+export function evaluate(expr: Expr, scope: ValueScope, diagnostics: Diagnostic[]): Quantity | undefined {
+  switch (expr.kind) {
+    case 'number': {
+      if (Number.isNaN(expr.value)) return undefined; // unknown unit, reported by the parser
+      const unit = parseUnitSuffix(expr.unit);
+      return { value: expr.value, dim: unit?.dim ?? DIMENSIONLESS };
+    }
+    case 'name': {
+      const q = scope.lookup(expr.name);
+      if (!q) diagnostics.push(error('unknown-name', `unknown value '${expr.name}'`, expr.span, didYouMean(expr.name, scope.names())));
+      return q;
+    }
+    case 'unary': {
+      const q = evaluate(expr.operand, scope, diagnostics);
+      return q && (expr.op === '-' ? { value: -q.value, dim: q.dim } : q);
+    }
+    case 'binary': {
+      const l = evaluate(expr.left, scope, diagnostics);
+      const r = evaluate(expr.right, scope, diagnostics);
+      if (!l || !r) return undefined;
+      switch (expr.op) {
+        case '+':
+        case '-':
+          if (!sameDimension(l.dim, r.dim)) {
+            diagnostics.push(
+              error('unit-mismatch', `cannot ${expr.op === '+' ? 'add' : 'subtract'} ${describeDimension(r.dim)} ${expr.op === '+' ? 'to' : 'from'} ${describeDimension(l.dim)}`, expr.span),
+            );
+            return undefined;
+          }
+          return { value: expr.op === '+' ? l.value + r.value : l.value - r.value, dim: l.dim };
+        case '*':
+          return { value: l.value * r.value, dim: multiplyDimensions(l.dim, r.dim, 1) };
+        case '/':
+          if (r.value === 0) {
+            diagnostics.push(error('value-not-finite', 'division by zero', expr.span));
+            return undefined;
+          }
+          return { value: l.value / r.value, dim: multiplyDimensions(l.dim, r.dim, -1) };
+        case 'mod':
+          if (!isDimensionless(l.dim) || !isDimensionless(r.dim)) {
+            diagnostics.push(error('unit-mismatch', "'mod' takes plain numbers", expr.span));
+            return undefined;
+          }
+          if (r.value === 0) {
+            diagnostics.push(error('value-not-finite', 'mod by zero', expr.span));
+            return undefined;
+          }
+          // Floored modulo, so that (i - 1) mod 10 stays in 0..9 for ring indices.
+          return { value: l.value - r.value * Math.floor(l.value / r.value), dim: DIMENSIONLESS };
+      }
+    }
+  }
+}
+
+/** What a value must be, for `evaluateAs`. */
+export interface Expectation {
+  /** Noun for messages: "a resistance", "a tolerance". */
+  what: string;
+  dim: Dimension;
+  /** 'positive': > 0; 'non-negative': ≥ 0; 'any': any finite number. */
+  sign: 'positive' | 'non-negative' | 'any';
+}
+
+/**
+ * Evaluates `expr` as a value of a known dimension. A plain number is taken in the expected
+ * unit (`load 33 k` is 33 kΩ); a value in another unit is a `unit-mismatch`.
+ */
+export function evaluateAs(expr: Expr, scope: ValueScope, expect: Expectation, diagnostics: Diagnostic[]): number | undefined {
+  const q = evaluate(expr, scope, diagnostics);
+  if (!q) return undefined;
+  if (!isDimensionless(q.dim) && !sameDimension(q.dim, expect.dim)) {
+    diagnostics.push(
+      error('unit-mismatch', `${expect.what} must be in ${describeDimension(expect.dim)}, but this is in ${describeDimension(q.dim)}`, expr.span),
+    );
+    return undefined;
+  }
+  return checkSign(q.value, expr.span, expect, diagnostics);
+}
+
+/** Checks a number is finite and of the required sign. */
+export function checkSign(value: number, span: SourceSpan | undefined, expect: Pick<Expectation, 'what' | 'sign'>, diagnostics: Diagnostic[]): number | undefined {
+  if (!Number.isFinite(value)) {
+    diagnostics.push(error('value-not-finite', `${expect.what} must be a finite number`, span));
+    return undefined;
+  }
+  if ((expect.sign === 'positive' && value <= 0) || (expect.sign === 'non-negative' && value < 0)) {
+    diagnostics.push(error('value-not-positive', `${expect.what} must be ${expect.sign === 'positive' ? 'greater than zero' : 'zero or more'}, not ${formatNumber(value)}`, span));
+    return undefined;
+  }
+  return value;
+}
+
+/** Largest tolerance or spread the tool accepts. */
+export const MAX_TOLERANCE = 0.5;
+
+/** Checks a tolerance or spread fraction lies within 0–50 %. */
+export function checkTolerance(value: number, span: SourceSpan | undefined, what: string, diagnostics: Diagnostic[]): number | undefined {
+  if (!Number.isFinite(value)) {
+    diagnostics.push(error('value-not-finite', `${what} must be a finite number`, span));
+    return undefined;
+  }
+  if (value < 0 || value > MAX_TOLERANCE) {
+    const notes = value > 1 && value <= 50 ? [`did you mean ${formatNumber(value)} %?`] : [];
+    diagnostics.push(error('tolerance-range', `${what} of ${formatNumber(value * 100)} % is outside 0–50 %`, span, notes));
+    return undefined;
+  }
+  return value;
+}
+
+/** Evaluates a tolerance: `5 %` or `0.05`, within 0–50 %. */
+export function evaluateTolerance(expr: Expr, scope: ValueScope, what: string, diagnostics: Diagnostic[]): number | undefined {
+  const v = evaluateAs(expr, scope, { what, dim: DIMENSIONLESS, sign: 'any' }, diagnostics);
+  return v === undefined ? undefined : checkTolerance(v, expr.span, what, diagnostics);
+}
+
+/** Evaluates an array bound or index: a whole number. */
+export function evaluateInteger(expr: Expr, scope: ValueScope, what: string, diagnostics: Diagnostic[]): number | undefined {
+  const v = evaluateAs(expr, scope, { what, dim: DIMENSIONLESS, sign: 'any' }, diagnostics);
+  if (v === undefined) return undefined;
+  if (!Number.isSafeInteger(v)) {
+    diagnostics.push(error('index-not-integer', `${what} must be a whole number, not ${formatNumber(v)}`, expr.span));
+    return undefined;
+  }
+  return v;
+}
+
+/** Short human form of a number: 220000 → "220000", 0.05 → "0.05", 1/3 → "0.333333". */
+export function formatNumber(v: number): string {
+  return Number.isInteger(v) ? String(v) : String(Number(v.toPrecision(6)));
+}

@@ -1,0 +1,102 @@
+import { error, warning, type Diagnostic } from '../source/diagnostic.js';
+import type { SourceSpan } from '../source/span.js';
+import { GROUND, partPins, type Design, type Part } from './model.js';
+
+/**
+ * Checks a flat design for wiring a builder would want to hear about before any analysis:
+ * a net only one part touches (`net-single-connection`, a warning: usually a typo), a tube
+ * grid with no DC path to a rail (`grid-no-dc-path`, an error: it would float), any other
+ * node with no DC path (`node-no-dc-path`, a warning), pentode sections without a screen
+ * and triodes given one, and a design with no parts.
+ *
+ * DC paths run through resistors, diodes and closed switches (a push button counts as
+ * released); rails and driven inputs are fixed. Capacitors and tube sections carry no DC
+ * path of their own for this purpose: a grid held only through a capacitor floats.
+ */
+export function validateDesign(design: Design, file: string): Diagnostic[] {
+  const out: Diagnostic[] = [];
+  if (design.parts.length === 0) {
+    const at: SourceSpan = { file, start: { line: 1, col: 1, offset: 0 }, end: { line: 1, col: 1, offset: 0 } };
+    out.push(warning('empty-design', 'the design has no parts', at));
+    return out;
+  }
+  const fixed = new Set<string>([GROUND, ...design.rails.map((r) => r.name)]);
+
+  // Connections per net, and the first part touching each.
+  const count = new Map<string, number>();
+  const firstPart = new Map<string, Part>();
+  for (const p of design.parts) {
+    for (const [, net] of partPins(p)) {
+      count.set(net, (count.get(net) ?? 0) + 1);
+      if (!firstPart.has(net)) firstPart.set(net, p);
+    }
+  }
+  for (const [net, n] of count) {
+    if (n === 1 && !fixed.has(net)) {
+      const p = firstPart.get(net)!;
+      out.push(warning('net-single-connection', `net '${net}' has a single connection (${describePart(p)}); is a name misspelt?`, p.span));
+    }
+  }
+
+  // DC paths: union-find over nets.
+  const parent = new Map<string, string>();
+  const find = (x: string): string => {
+    let r = x;
+    while (parent.has(r) && parent.get(r) !== r) r = parent.get(r)!;
+    let y = x;
+    while (y !== r) {
+      const next = parent.get(y)!;
+      parent.set(y, r);
+      y = next;
+    }
+    return r;
+  };
+  const union = (a: string, b: string) => {
+    const ra = find(a);
+    const rb = find(b);
+    if (ra !== rb) parent.set(ra, rb);
+  };
+  for (const net of fixed) union(net, GROUND);
+  for (const p of design.parts) {
+    if (p.type === 'resistor') union(p.a, p.b);
+    else if (p.type === 'diode') union(p.anode, p.cathode);
+    else if (p.type === 'switch' && p.closed) union(p.a, p.b);
+    else if (p.type === 'drive') union(p.node, GROUND);
+  }
+  const ground = () => find(GROUND);
+  const reportedNets = new Set<string>();
+  for (const p of design.parts) {
+    if (p.type !== 'tube') continue;
+    if (find(p.grid) !== ground()) {
+      reportedNets.add(find(p.grid));
+      out.push(error('grid-no-dc-path', `the grid of section '${p.name}' (net '${p.grid}') has no DC path to a rail: it would float`, p.span, ['give the grid a resistor to a bias rail, or drive it through a series resistor']));
+    }
+  }
+  for (const p of design.parts) {
+    for (const [pin, net] of partPins(p)) {
+      const root = find(net);
+      if (root === ground() || reportedNets.has(root)) continue;
+      reportedNets.add(root);
+      out.push(warning('node-no-dc-path', `net '${net}' (${pin} of ${describePart(p)}) has no DC path to a rail`, p.span));
+    }
+  }
+
+  // Screens.
+  const models = new Map(design.models.map((m) => [m.name, m]));
+  for (const p of design.parts) {
+    if (p.type !== 'tube') continue;
+    const m = models.get(p.model);
+    if (!m) continue;
+    if (m.kind === 'koren-pentode' && p.screen === undefined) {
+      out.push(error('missing-field', `section '${p.name}' is a pentode (${m.name}) but its screen is not connected`, p.span, ["in a stage: 'screen RAIL' or 'screen 10 k to RAIL'"]));
+    }
+    if (m.kind !== 'koren-pentode' && p.screen !== undefined) {
+      out.push(error('unknown-port', `section '${p.name}' is a triode (${m.name}) and has no screen`, p.span));
+    }
+  }
+  return out;
+}
+
+function describePart(p: Part): string {
+  return `${p.type === 'tube' ? 'section' : p.type} '${p.name}'`;
+}

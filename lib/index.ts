@@ -1,0 +1,28 @@
+/**
+ * tubemargin as a library. Data flows one way: text → design → graph → (solve → analysis →
+ * report, in later modules). Nothing here does I/O; included files arrive through a
+ * `SourceLoader` the caller supplies.
+ */
+export type { Position, SourceSpan } from './source/span.js';
+export { LineIndex, formatLocation } from './source/span.js';
+export type { Checked, Diagnostic, DiagnosticCode, Severity } from './source/diagnostic.js';
+export { DIAGNOSTIC_CODES, hasErrors, sortDiagnostics } from './source/diagnostic.js';
+export { renderDiagnostic, renderDiagnostics } from './source/render.js';
+export { closestName, editDistance } from './source/suggest.js';
+
+export type * from './netlist/ast.js';
+export { parseDesignText } from './netlist/parser.js';
+
+export type * from './design/model.js';
+export { DEFAULT_SETTINGS, GROUND, designNets, isGeneratedName, partPins } from './design/model.js';
+export { expandDesign, MAX_ARRAY_LENGTH, MAX_BLOCK_DEPTH, MAX_PARTS } from './design/expand.js';
+export { collectSources, MAX_SOURCE_CHARS, type SourceLoader } from './design/sources.js';
+export { validateDesign } from './design/validate.js';
+export { checkDesign } from './design/checkDesign.js';
+export { DESIGN_SCHEMA, designFromJson, designToJson, designJsonSchema, type DesignJson } from './design/json.js';
+export { loadDesign, looksLikeJson, type LoadedDesign, type LoadOptions } from './design/load.js';
+
+export { MODEL_KINDS, MODEL_KIND_NAMES } from './models/kinds.js';
+export { TUBE_LIBRARY, findLibraryEntry, type LibraryEntry, type TubeRatings } from './models/library.js';
+
+export { buildStageGraph, compareNames, type Loop, type NetNode, type Receiver, type StageGraph } from './graph/stageGraph.js';
