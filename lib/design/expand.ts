@@ -291,10 +291,14 @@ class Expander {
     const declared = new Set<string>(scope.ports.keys());
     const pending: { ref: ResolvedNet; span: SourceSpan }[] = [];
     const things = new Map<string, SourceSpan>();
-    const claim = (name: string, span: SourceSpan, what: string): void => {
+    const claim = (name: string, span: SourceSpan, what: string): boolean => {
       const first = things.get(name);
-      if (first) this.diagnostics.push(error('duplicate-name', `${what} '${name}' reuses a name already taken here`, span, [`first used at ${formatLocation(first)}`]));
-      else things.set(name, span);
+      if (first) {
+        this.diagnostics.push(error('duplicate-name', `${what} '${name}' reuses a name already taken here`, span, [`first used at ${formatLocation(first)}`]));
+        return false;
+      }
+      things.set(name, span);
+      return true;
     };
     const ctx: ScopeContext = { scope, declared, pending, claim };
     for (const st of statements) {
@@ -369,7 +373,7 @@ class Expander {
     const d = this.diagnostics;
     const out = this.resolveNet(st.out, scope);
     if (!out) return;
-    ctx.claim(out.local, st.out.span, 'stage');
+    if (!ctx.claim(out.local, st.out.span, 'stage')) return;
     ctx.declared.add(out.local);
     const base = scope.prefix + out.local;
     const once = new Map<string, SourceSpan>();
@@ -492,7 +496,7 @@ class Expander {
   private expandPart(st: PartStmt, ctx: ScopeContext): void {
     const { scope } = ctx;
     const d = this.diagnostics;
-    ctx.claim(st.name.text, st.name.span, st.part);
+    if (!ctx.claim(st.name.text, st.name.span, st.part)) return;
     const pinSpec = PINS[st.part];
     const pins = this.bindPins(st.pins, pinSpec.names, pinSpec.required, `${st.part} '${st.name.text}'`, st.pinsSpan, (ref) => {
       const r = this.resolveNet(ref, scope);
@@ -567,7 +571,7 @@ class Expander {
   private expandInstance(st: Extract<Statement, { kind: 'instance' }>, ctx: ScopeContext): void {
     const { scope } = ctx;
     const d = this.diagnostics;
-    ctx.claim(st.name.text, st.name.span, 'instance');
+    if (!ctx.claim(st.name.text, st.name.span, 'instance')) return;
     const block = this.blocks.get(st.block.text);
     if (!block) {
       d.push(error('unknown-block', `unknown block '${st.block.text}'`, st.block.span, didYouMean(st.block.text, this.blocks.keys())));
@@ -663,15 +667,16 @@ interface ScopeContext {
   declared: Set<string>;
   /** Nets a stage reads, checked against `declared` when the scope is done. */
   pending: { ref: ResolvedNet; span: SourceSpan }[];
-  claim: (name: string, span: SourceSpan, what: string) => void;
+  /** Takes a name for a stage, part or instance; false (and a diagnostic) when it is taken already. */
+  claim: (name: string, span: SourceSpan, what: string) => boolean;
 }
 
-/** One diagnostic per kind and place: a problem inside a block shows once, not once per instance. */
+/** One diagnostic per problem and place: a problem inside a block shows once, not once per instance. */
 function dedupe(diagnostics: Diagnostic[]): Diagnostic[] {
   const seen = new Map<string, { d: Diagnostic; count: number }>();
   const out: Diagnostic[] = [];
   for (const d of diagnostics) {
-    const key = `${d.code}|${d.span?.file}|${d.span?.start.offset}|${d.span?.end.offset}`;
+    const key = `${d.code}|${d.span?.file}|${d.span?.start.offset}|${d.span?.end.offset}|${d.message}`;
     const hit = seen.get(key);
     if (hit) {
       hit.count++;

@@ -342,14 +342,25 @@ class Parser {
   private parseValueSpec(allowRating = true): ValueSpec {
     const start = this.peek();
     const value = this.parseExpr();
-    let tol: Expr | undefined;
-    let rating: Expr | undefined;
+    return this.parseSpecTail({ value, tol: undefined, rating: undefined, span: this.since(start) }, allowRating);
+  }
+
+  /** `tol …` and `rating …` after a value, in either order; also after `to NET` (`load 33 k to bp tol 1 %`). */
+  private parseSpecTail(spec: ValueSpec, allowRating = true): ValueSpec {
     while (this.isWord('tol') || (allowRating && this.isWord('rating'))) {
       const kw = this.next();
-      if (kw.text === 'tol') tol = this.parseOnce(tol, kw);
-      else rating = this.parseOnce(rating, kw);
+      if (kw.text === 'tol') spec.tol = this.parseOnce(spec.tol, kw);
+      else spec.rating = this.parseOnce(spec.rating, kw);
     }
-    return { value, tol, rating, span: this.since(start) };
+    return spec;
+  }
+
+  /** `VALUE [tol …] [rating …] to NET [tol …] [rating …]`. */
+  private parseSpecTo(what: string): { spec: ValueSpec; to: NetRef } {
+    const spec = this.parseValueSpec();
+    this.expectWord('to');
+    const to = this.parseNetRef(what);
+    return { spec: this.parseSpecTail(spec), to };
   }
 
   private parseStage(start: Token): Statement {
@@ -386,9 +397,7 @@ class Parser {
       case 'tube':
         return { kind: 'tube', type: this.parseTypeRef(), span: this.since(t) };
       case 'load': {
-        const spec = this.parseValueSpec();
-        this.expectWord('to');
-        const to = this.parseNetRef('the rail or net the load returns to');
+        const { spec, to } = this.parseSpecTo('the rail or net the load returns to');
         return { kind: 'load', spec, to, span: this.since(t) };
       }
       case 'cathode':
@@ -399,9 +408,8 @@ class Parser {
         if (a.kind === 'ident' && (this.atStatementEnd(b) || this.isPunct('[', b))) {
           return { kind: 'screen', spec: undefined, to: this.parseNetRef(), span: this.since(t) };
         }
-        const spec = this.parseValueSpec();
-        this.expectWord('to');
-        return { kind: 'screen', spec, to: this.parseNetRef(), span: this.since(t) };
+        const { spec, to } = this.parseSpecTo('the rail the screen resistor returns to');
+        return { kind: 'screen', spec, to, span: this.since(t) };
       }
       default: {
         const from = this.parseNetRef('the net this input comes from');
@@ -414,9 +422,7 @@ class Parser {
         let pulldown: { spec: ValueSpec; to: NetRef } | undefined;
         if (this.isWord('pulldown')) {
           this.next();
-          const spec = this.parseValueSpec();
-          this.expectWord('to');
-          pulldown = { spec, to: this.parseNetRef('the rail the pull-down returns to') };
+          pulldown = this.parseSpecTo('the rail the pull-down returns to');
         }
         return { kind: 'input', from, series, pulldown, span: this.since(t) };
       }
