@@ -31,5 +31,5 @@ export function loadForCommand(file: string, io: CliIo, options: GlobalOptions):
 function report(diagnostics: Diagnostic[], sources: Map<string, string>, io: CliIo): void {
   if (diagnostics.length === 0) return;
   io.stderr(formatDiagnostics(diagnostics, sources, chalkFor(io, 'stderr')) + '\n');
-  if (hasErrors(diagnostics)) io.stderr('the design has errors; nothing was analysed\n');
+  if (hasErrors(diagnostics)) io.stderr('the design has errors; fix them and run again\n');
 }

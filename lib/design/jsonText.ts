@@ -10,7 +10,7 @@ export type JsonNode =
   | { type: 'boolean'; value: boolean; span: SourceSpan }
   | { type: 'null'; span: SourceSpan };
 
-/** How deeply arrays and objects may nest in a JSON design. */
+/** How many arrays and objects may enclose one another in a JSON design, the outermost object included. */
 export const MAX_JSON_DEPTH = 64;
 
 class JsonError extends Error {
@@ -77,7 +77,7 @@ export function parseJsonText(text: string, file: string, lines = new LineIndex(
     }
   };
   const value = (depth: number): JsonNode => {
-    if (depth > MAX_JSON_DEPTH) fail(`nested more than ${MAX_JSON_DEPTH} deep`);
+    if (depth >= MAX_JSON_DEPTH) fail(`nested more than ${MAX_JSON_DEPTH} deep`);
     ws();
     const start = i;
     const c = text[i];

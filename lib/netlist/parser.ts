@@ -19,7 +19,7 @@ import { lex } from './lexer.js';
 import type { Token } from './token.js';
 import { parseUnitSuffix } from './units.js';
 
-/** How deeply parentheses and unary signs may nest in one expression. */
+/** How deeply parentheses and unary signs may nest in one expression (100 is allowed, 101 is not). */
 export const MAX_EXPRESSION_DEPTH = 100;
 
 const TOP_KEYWORDS = ['title', 'include', 'let', 'defaults', 'rail', 'type', 'stage', 'block', 'instance'];
@@ -546,7 +546,7 @@ class Parser {
   }
 
   private parseUnary(): Expr {
-    if (this.exprDepth >= MAX_EXPRESSION_DEPTH) {
+    if (this.exprDepth > MAX_EXPRESSION_DEPTH) {
       this.diagnostics.push(error('nesting-too-deep', `expression nested more than ${MAX_EXPRESSION_DEPTH} deep`, this.tokenSpan(this.peek())));
       throw new Bail();
     }

@@ -63,7 +63,8 @@ export function cutList(items: string[], room: number): string {
   for (let i = 0; i < items.length; i++) {
     const next = (out ? out + ', ' : '') + items[i];
     const rest = items.length - i - 1;
-    if (next.length + (rest > 0 ? 6 : 0) > room) return `${out}${out ? ', ' : ''}… +${items.length - i}`;
+    const tail = rest > 0 ? `, … +${rest}`.length : 0;
+    if (next.length + tail > room) return `${out}${out ? ', ' : ''}… +${items.length - i}`;
     out = next;
   }
   return out || '—';

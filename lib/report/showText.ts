@@ -77,7 +77,9 @@ export function renderShow(design: Design, graph: StageGraph, source: string): s
   out.push(`Loops (${graph.loops.length})`);
   if (graph.loops.length === 0) out.push('  none: every signal path runs one way');
   for (const loop of graph.loops) {
-    out.push(`  ${loop.kind === 'latch' ? 'latch' : 'loop '}  ${loop.kind === 'latch' ? loop.nets.join(' ↔ ') : `${loop.nets.length} nets: ${cutList(loop.nets, 60)}`}`);
+    const head = `  ${loop.kind === 'latch' ? 'latch' : 'loop '}  `;
+    const body = loop.kind === 'latch' ? loop.nets.join(' ↔ ') : `${loop.nets.length} nets: `;
+    out.push(head + body + (loop.kind === 'loop' ? cutList(loop.nets, REPORT_COLUMNS - head.length - body.length) : ''));
   }
   out.push('');
 
@@ -88,7 +90,7 @@ export function renderShow(design: Design, graph: StageGraph, source: string): s
   }
   const generated = design.parts.filter((p) => isGeneratedName(p.name)).length;
   const parts = [...counts].map(([k, n]) => `${n} ${k}${n === 1 ? '' : k === 'switch' ? 'es' : 's'}`).join(', ');
-  out.push(`Parts: ${design.parts.length} (${parts || 'none'}); ${generated} named by the tool`);
+  out.push(...wrap(`Parts: ${design.parts.length} (${parts || 'none'}); ${generated} named by the tool`, REPORT_COLUMNS));
   const cautions = safetyCautions(design);
   if (cautions.length > 0) out.push('', ...cautions.flatMap((c) => wrap(c, REPORT_COLUMNS)));
   return out.join('\n') + '\n';

@@ -1,0 +1,110 @@
+import { execFileSync, spawnSync } from 'node:child_process';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { readDesignFile, type CliIo } from '../../cli/io.js';
+import { runCli } from '../../cli/main.js';
+import { ROOT, demoDesigns } from '../helpers.js';
+
+interface Run {
+  code: number;
+  out: string;
+  err: string;
+}
+
+async function run(args: string[], env: Record<string, string> = {}, tty = false): Promise<Run> {
+  let out = '';
+  let err = '';
+  const io: CliIo = {
+    stdout: (t) => void (out += t),
+    stderr: (t) => void (err += t),
+    readFile: (p) => readDesignFile(join(ROOT, p)),
+    stdoutIsTTY: tty,
+    stderrIsTTY: tty,
+    env,
+  };
+  const code = await runCli(args, io);
+  return { code, out, err };
+}
+
+const ANSI = /\u001b\[/;
+
+describe('tubemargin on the command line', () => {
+  it('prints help with examples and exits 0', async () => {
+    const r = await run(['--help']);
+    expect(r.code).toBe(0);
+    expect(r.out).toContain('Examples:');
+    expect(r.out).toContain('show');
+  });
+
+  for (const file of demoDesigns()) {
+    it(`shows ${file}: rails, stages, nets and loops within 80 columns`, async () => {
+      const r = await run(['show', file]);
+      expect(r.err).toBe('');
+      expect(r.code).toBe(0);
+      for (const heading of ['Rails', 'Tube types', 'Stages', 'Nets', 'Loops', 'Parts:']) expect(r.out).toContain(heading);
+      for (const line of r.out.split('\n')) expect(line.length).toBeLessThanOrEqual(80);
+    });
+
+    it(`reads back its own --json output of ${file} as a design, with the same report`, async () => {
+      const json = await run(['show', file, '--json']);
+      expect(json.code).toBe(0);
+      expect(JSON.parse(json.out).schema).toBe('tubemargin.design/1');
+      const dir = mkdtempSync(join(tmpdir(), 'tm-'));
+      const path = join(dir, 'design.json');
+      writeFileSync(path, json.out);
+      let out = '';
+      const code = await runCli(['show', path], { stdout: (t) => void (out += t), stderr: () => {}, readFile: readDesignFile, stdoutIsTTY: false, stderrIsTTY: false, env: {} });
+      expect(code).toBe(0);
+      const text = await run(['show', file]);
+      expect(out.split('\n').slice(1)).toEqual(text.out.split('\n').slice(1));
+    });
+  }
+
+  it('shows the safety cautions for a design whose rails exceed 60 V, and not for a 24 V design', async () => {
+    expect((await run(['show', 'nets/crate-tally.tube'])).out).toContain('CAUTION');
+    expect((await run(['show', 'nets/nor-adder.tube'])).out).not.toContain('CAUTION');
+  });
+
+  it('exits 2 on a broken design, with file:line:col diagnostics and no stack trace', async () => {
+    const r = await run(['show', 'docs/examples/broken-latch.tube']);
+    expect(r.code).toBe(2);
+    expect(r.out).toBe('');
+    expect(r.err).toContain('docs/examples/broken-latch.tube:7:8: error: a plate load must be in ohms');
+    expect(r.err).toContain('3 errors, 0 warnings');
+    expect(r.err).not.toMatch(/\n\s+at /);
+  });
+
+  it('exits 2 on a missing file, an unknown command and an unknown option', async () => {
+    const missing = await run(['show', 'nets/nothing-here.tube']);
+    expect(missing.code).toBe(2);
+    expect(missing.err).toBe('error: cannot read nets/nothing-here.tube: no such file [file-unreadable]\n');
+    expect((await run(['frobnicate'])).code).toBe(2);
+    expect((await run(['show', 'nets/nor-adder.tube', '--bogus'])).code).toBe(2);
+    expect((await run(['show'])).code).toBe(2);
+  });
+
+  it('colours diagnostics only on a terminal without NO_COLOR, or when FORCE_COLOR asks', async () => {
+    const broken = ['show', 'docs/examples/broken-latch.tube'];
+    expect((await run(broken, {}, false)).err).not.toMatch(ANSI);
+    expect((await run(broken, {}, true)).err).toMatch(ANSI);
+    expect((await run(broken, { NO_COLOR: '1' }, true)).err).not.toMatch(ANSI);
+    expect((await run(broken, { FORCE_COLOR: '1' }, false)).err).toMatch(ANSI);
+    expect((await run(broken, { FORCE_COLOR: '0' }, true)).err).not.toMatch(ANSI);
+  });
+
+  it('lists the tube library with the source of every entry', async () => {
+    const r = await run(['tubes']);
+    expect(r.code).toBe(0);
+    for (const t of ['12AX7', '12AU7', '12AT7', '6DJ8']) expect(r.out).toContain(t);
+    expect(r.out).toContain('Koren');
+  });
+
+  it('runs as the installed binary (the compiled launcher in bin/)', () => {
+    const out = execFileSync(process.execPath, [join(ROOT, 'bin/tubemargin.js'), 'show', 'nets/nor-adder.tube'], { cwd: ROOT, encoding: 'utf8' });
+    expect(out).toContain('NOR full adder');
+    const bad = spawnSync(process.execPath, [join(ROOT, 'bin/tubemargin.js'), 'show', 'docs/examples/broken-latch.tube'], { cwd: ROOT, encoding: 'utf8' });
+    expect(bad.status).toBe(2);
+  });
+});
