@@ -1,5 +1,5 @@
 import { TUBE_LIBRARY } from '../lib/index.js';
-import { table } from '../lib/report/format.js';
+import { table, wrap } from '../lib/report/format.js';
 import type { CliIo } from './io.js';
 import { EXIT } from './load.js';
 
@@ -14,7 +14,8 @@ export function runTubes(options: { json?: boolean }, io: CliIo): number {
   io.stdout(table(['type', 'kind', 'what', 'plate max', 'trusted'], rows).join('\n') + '\n');
   io.stdout('\nSources:\n');
   for (const e of TUBE_LIBRARY) {
-    io.stdout(`  ${e.designation}: ${e.provenance}${e.caveats ? `. Caveat: ${e.caveats}` : ''}\n`);
+    const lines = wrap(`${e.designation}: ${e.provenance}${e.caveats ? `. Caveat: ${e.caveats}` : ''}.`, 78, '    ');
+    io.stdout(lines.map((l) => `  ${l}\n`).join(''));
   }
   return EXIT.ok;
 }

@@ -18,6 +18,7 @@ export { DEFAULT_SETTINGS, GROUND, designNets, isGeneratedName, partPins } from 
 export { expandDesign, MAX_ARRAY_LENGTH, MAX_BLOCK_DEPTH, MAX_PARTS } from './design/expand.js';
 export { collectSources, MAX_SOURCE_CHARS, type SourceLoader } from './design/sources.js';
 export { validateDesign } from './design/validate.js';
+export { findPart } from './design/findPart.js';
 export { checkDesign } from './design/checkDesign.js';
 export { DESIGN_SCHEMA, designFromJson, designToJson, designJsonSchema, type DesignJson } from './design/json.js';
 export { loadDesign, looksLikeJson, type LoadedDesign, type LoadOptions } from './design/load.js';
@@ -25,4 +26,5 @@ export { loadDesign, looksLikeJson, type LoadedDesign, type LoadOptions } from '
 export { MODEL_KINDS, MODEL_KIND_NAMES } from './models/kinds.js';
 export { TUBE_LIBRARY, findLibraryEntry, type LibraryEntry, type TubeRatings } from './models/library.js';
 
+export { stronglyConnected } from './graph/tarjan.js';
 export { buildStageGraph, compareNames, type Loop, type NetNode, type Receiver, type StageGraph } from './graph/stageGraph.js';

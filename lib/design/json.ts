@@ -70,8 +70,14 @@ export type DesignJson = Infer<typeof designJsonSchema>;
 export function designToJson(design: Design): DesignJson {
   const rails = design.rails.map((r) => ({ name: r.name, volts: r.volts, tol: r.tol, sourceOhms: r.sourceOhms }));
   const models = design.models.map((m) => {
-    const { span: _span, ...rest } = m;
-    return rest;
+    const fields = m as unknown as Record<string, unknown>;
+    const out: Record<string, unknown> = { name: m.name, kind: m.kind };
+    if (m.library !== undefined) out.library = m.library;
+    for (const p of MODEL_KINDS[m.kind].parameters) out[p.name] = fields[p.name];
+    out.rgi = m.rgi;
+    out.vgamma = m.vgamma;
+    out.spread = m.spread;
+    return out;
   });
   const parts = design.parts.map((p) => {
     const { span: _span, ...rest } = p;

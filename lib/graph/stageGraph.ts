@@ -1,5 +1,6 @@
-import { Graph, alg } from '@dagrejs/graphlib';
+import { Graph } from '@dagrejs/graphlib';
 import { GROUND, type Design, type TubeSection } from '../design/model.js';
+import { stronglyConnected } from './tarjan.js';
 
 /** One grid a net feeds. */
 export interface Receiver {
@@ -54,7 +55,7 @@ const MAX_FEED_SEARCH = 256;
  * cathode follower). The nets feeding a grid are found by walking from the grid through
  * resistors and diodes, across internal nodes (divider taps, diode-gate junctions), until a
  * section output or an input net is reached; rails end the walk. Loops are the strongly
- * connected components (Tarjan's algorithm, through graphlib); inside each, every pair of
+ * connected components (Tarjan's algorithm over the graphlib graph); inside each, every pair of
  * nets feeding each other is a latch.
  *
  * Example: two stages whose inputs come from each other's plates give one loop
@@ -135,7 +136,7 @@ export function buildStageGraph(design: Design): StageGraph {
   for (const n of nodes.values()) n.fanout = new Set(n.receivers.map((r) => r.section)).size;
 
   const loops: Loop[] = [];
-  for (const component of alg.tarjan(graph)) {
+  for (const component of stronglyConnected(graph)) {
     const nets = [...component].sort(compareNames);
     const members = new Set(nets);
     // Every cross-coupled pair is a latch, also where it sits inside a larger loop (a ring

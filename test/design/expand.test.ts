@@ -231,3 +231,15 @@ describe('includes', () => {
     expect(cycle?.notes).toEqual(['the loop: main.tube → loop.tube → main.tube']);
   });
 });
+
+describe('finding a part by name', async () => {
+  const { findPart } = await import('../../lib/index.js');
+  const d = design('rail bp = 24 V\nbutton START (x, bp)\nresistor R (x, gnd) 10 k');
+  it('finds a part of the asked type, and suggests the closest name of that type when it is missing', () => {
+    expect(findPart(d, 'START', 'switch')).toMatchObject({ part: { name: 'START', momentary: true } });
+    const miss = findPart(d, 'STRT', 'switch');
+    expect('diagnostic' in miss && miss.diagnostic).toMatchObject({ code: 'unknown-part', notes: ["did you mean 'START'?"] });
+    const wrong = findPart(d, 'R', 'switch');
+    expect('diagnostic' in wrong && wrong.diagnostic.message).toBe("'R' is a resistor, not a switch");
+  });
+});

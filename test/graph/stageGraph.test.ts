@@ -91,3 +91,32 @@ switch SX (x, bp) open`));
     expect(['q[10]', 'q[2]', 'p', 'q[1]'].sort(compareNames)).toEqual(['p', 'q[1]', 'q[2]', 'q[10]']);
   });
 });
+
+describe('strongly connected components', () => {
+  it('equal graphlib’s own Tarjan on random graphs (graphlib as the oracle)', async () => {
+    const fc = (await import('fast-check')).default;
+    const { Graph, alg } = await import('@dagrejs/graphlib');
+    const { stronglyConnected } = await import('../../lib/index.js');
+    const norm = (cs: string[][]) => cs.map((c) => [...c].sort().join(',')).sort();
+    fc.assert(
+      fc.property(fc.integer({ min: 1, max: 40 }), fc.array(fc.tuple(fc.nat(), fc.nat()), { maxLength: 120 }), (n, edges) => {
+        const g = new Graph({ directed: true });
+        for (let i = 0; i < n; i++) g.setNode(`n${i}`);
+        for (const [a, b] of edges) g.setEdge(`n${a % n}`, `n${b % n}`);
+        expect(norm(stronglyConnected(g))).toEqual(norm(alg.tarjan(g)));
+      }),
+      { numRuns: 500, seed: 7 },
+    );
+  });
+
+  it('handles a ring of 200,000 nodes, where a recursive search overflows the stack', async () => {
+    const { Graph } = await import('@dagrejs/graphlib');
+    const { stronglyConnected } = await import('../../lib/index.js');
+    const g = new Graph({ directed: true });
+    const n = 200_000;
+    for (let i = 0; i < n; i++) g.setEdge(`n${i}`, `n${(i + 1) % n}`);
+    const cs = stronglyConnected(g);
+    expect(cs).toHaveLength(1);
+    expect(cs[0]).toHaveLength(n);
+  });
+});
