@@ -28,3 +28,20 @@ export { TUBE_LIBRARY, findLibraryEntry, type LibraryEntry, type TubeRatings } f
 
 export { stronglyConnected } from './graph/tarjan.js';
 export { buildStageGraph, compareNames, type Loop, type NetNode, type Receiver, type StageGraph } from './graph/stageGraph.js';
+
+export { tubeCurrents, softplus, sigmoid, NOMINAL_VARIATION, type SectionVariation, type TubeCurrents } from './models/tubeEquations.js';
+export { SparseLu } from './solve/sparseLu.js';
+export type { LinearSystem, LinearSystemFactory } from './solve/linearSystem.js';
+export { compileCircuit, type Circuit, type CompileOptions } from './solve/circuit.js';
+export { DcSystem, type NewtonSettings } from './solve/dcSystem.js';
+export {
+  solveOperatingPoint,
+  logicThreshold,
+  RESIDUAL_LIMIT,
+  type OperatingPoint,
+  type SolveOptions,
+  type StateHint,
+  type HintOutcome,
+  type TubeOperatingPoint,
+  type ResistorOperatingPoint,
+} from './solve/operatingPoint.js';

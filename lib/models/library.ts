@@ -32,8 +32,10 @@ const KOREN = 'N. Koren, "Improved VT models for SPICE simulations", Glass Audio
 const RCA = 'ratings: RCA Receiving Tube Manual (from memory)';
 
 /**
- * The tube library. Registered type designations only, no brand names. Issue #3 extends it
- * with pentodes and computer-rated types; the entries here are Koren's published triode sets.
+ * The tube library. Registered type designations only, no brand names. Each entry says
+ * where its numbers come from and the plate voltages it is trusted over; at the 12–60 V
+ * where logic often runs, published fits disagree by several times, so a builder should
+ * fit their own tubes.
  */
 export const TUBE_LIBRARY: readonly LibraryEntry[] = [
   {
@@ -72,6 +74,49 @@ export const TUBE_LIBRARY: readonly LibraryEntry[] = [
     ratings: { plateWatts: 1.8, heaterVolts: 6.3, heaterAmps: 0.365, heaterCathodeVolts: 100 },
     provenance: `${KOREN}; ratings from memory of the type's data sheet`,
     trustedPlateVolts: [50, 200],
+  },
+  {
+    designation: '6SN7',
+    description: 'medium-mu twin triode (octal)',
+    sectionsPerEnvelope: 2,
+    model: { kind: 'child-langmuir', mu: 20, k: 9.43e-4, rgi: 2000, vgamma: 0, spread: 0.25 },
+    ratings: { plateWatts: 3.5, heaterVolts: 6.3, heaterAmps: 0.6, heaterCathodeVolts: 200 },
+    provenance: 'fitted to one handbook point, 250 V / −8 V / 9 mA with mu 20 (RCA Receiving Tube Manual, from memory): K = 9 mA / (−8 + 250/20)^1.5',
+    trustedPlateVolts: [90, 300],
+    caveats: 'a 3/2-power law through one point; its transconductance there is 15 % above the handbook figure',
+  },
+  {
+    designation: '6CG7',
+    description: 'medium-mu twin triode (miniature 6SN7)',
+    sectionsPerEnvelope: 2,
+    model: { kind: 'child-langmuir', mu: 20, k: 9.43e-4, rgi: 2000, vgamma: 0, spread: 0.25 },
+    ratings: { plateWatts: 3.5, heaterVolts: 6.3, heaterAmps: 0.6, heaterCathodeVolts: 200 },
+    provenance: 'the 6SN7 fit: the handbook gives the 6CG7 the same characteristics (RCA Receiving Tube Manual, from memory)',
+    trustedPlateVolts: [90, 300],
+    caveats: 'a 3/2-power law through one point; its transconductance there is 15 % above the handbook figure',
+  },
+  {
+    designation: '6AU6',
+    description: 'sharp-cutoff small pentode',
+    sectionsPerEnvelope: 1,
+    model: { kind: 'koren-pentode', mu: 36, ex: 1.35, kg1: 347, kg2: 266, kp: 120, kvb: 10, rgi: 2000, vgamma: 0, spread: 0.25 },
+    ratings: { plateWatts: 3.5, screenWatts: 0.75, heaterVolts: 6.3, heaterAmps: 0.3, heaterCathodeVolts: 200 },
+    provenance:
+      'fitted for logic use to the bench figure that a small pentode driven hard at 24 V looks like about 3 kΩ plate to cathode (common practice, no source); ' +
+      'mu 36 and the screen-to-plate current ratio 0.41 from the handbook (RCA Receiving Tube Manual, from memory); ex 1.35 as in Koren\'s pentode sets',
+    trustedPlateVolts: [2, 60],
+    caveats: 'fitted at logic voltages only: at the handbook point (250 V plate, 150 V screen, −1 V grid) it gives about four times the handbook plate current',
+  },
+  {
+    designation: '6CB6',
+    description: 'sharp-cutoff small pentode',
+    sectionsPerEnvelope: 1,
+    model: { kind: 'koren-pentode', mu: 35, ex: 1.35, kg1: 968, kg2: 1163, kp: 120, kvb: 15, rgi: 2000, vgamma: 0, spread: 0.25 },
+    ratings: { plateWatts: 2, screenWatts: 0.5, heaterVolts: 6.3, heaterAmps: 0.3, heaterCathodeVolts: 200 },
+    provenance:
+      'fitted to the handbook point 200 V plate, 150 V screen, −2.2 V grid: 9.5 mA plate, 2.8 mA screen (RCA Receiving Tube Manual, from memory); mu 35 assumed; ex 1.35 as in Koren\'s pentode sets',
+    trustedPlateVolts: [100, 300],
+    caveats: 'not fitted below 100 V, where logic runs: fit your own tubes (tubemargin fit) before trusting margins there',
   },
 ];
 

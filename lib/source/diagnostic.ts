@@ -48,6 +48,11 @@ export const DIAGNOSTIC_CODES = [
   'grid-no-dc-path',
   'node-no-dc-path',
   'empty-design',
+  // solving
+  'short-circuit',
+  'no-convergence',
+  'hint-not-held',
+  'state-undecided',
   // JSON designs
   'json-syntax',
   'json-schema',

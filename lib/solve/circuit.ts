@@ -1,0 +1,232 @@
+import { GROUND, type Design, type TubeModel } from '../design/model.js';
+import { error, type Diagnostic } from '../source/diagnostic.js';
+import { NOMINAL_VARIATION, P, packSection, type SectionVariation } from '../models/tubeEquations.js';
+
+/**
+ * A design compiled for nodal analysis: every net that is not held at a fixed voltage is
+ * an unknown; elements refer to terminals by index. A terminal index t ≥ 0 is unknown t; a
+ * negative one, −1 − f, is fixed voltage f (ground, a stiff rail, a stiff drive). Nets
+ * joined by closed switches are one node.
+ *
+ * Parameter arrays are plain typed arrays so that the Newton loop reads them without
+ * allocating; `fixedVolts` and the section parameters may be rewritten between solves
+ * (tolerance corners, Monte Carlo samples) without compiling again.
+ */
+export interface Circuit {
+  /** Unknown node count. */
+  n: number;
+  /** Names of the unknowns: nets, or internal nodes (`V1:k` behind a cathode interface, `D1:j` behind a diode's series resistance). */
+  nodeNames: string[];
+  /** Net name → terminal index (unknown or fixed), for every net of the design. */
+  terminalOf: Map<string, number>;
+  fixedNames: string[];
+  /** Nominal voltage of each fixed terminal. */
+  fixedNominal: Float64Array;
+  /** Voltage in force for each fixed terminal (source stepping and corners rewrite it). */
+  fixedVolts: Float64Array;
+
+  /** Conductances: between terminals `gA[i]` and `gB[i]`, `gS[i]` siemens. */
+  gA: Int32Array;
+  gB: Int32Array;
+  gS: Float64Array;
+  /** Which resistor each conductance came from (−1 for internal ones: source resistance, cathode interface). */
+  gPart: Int32Array;
+
+  /** Tube sections: terminals plate, grid, cathode (the internal cathode when it has an interface layer), screen (or −1 − fixedGround when absent). */
+  tA: Int32Array;
+  tG: Int32Array;
+  tK: Int32Array;
+  tS: Int32Array;
+  tubeParams: Float64Array;
+  tubePart: Int32Array;
+  hasScreen: Uint8Array;
+
+  /** Diodes: anode and cathode terminals (the junction node when it has series resistance), Is, n·Vt. */
+  dA: Int32Array;
+  dK: Int32Array;
+  dIs: Float64Array;
+  dNVt: Float64Array;
+  diodePart: Int32Array;
+
+  /** Index in `design.parts` of every part, by name. */
+  partIndex: Map<string, number>;
+  design: Design;
+}
+
+/** Thermal voltage kT/q at 300 K (volts), for the Shockley diode law. */
+export const THERMAL_VOLTS = 0.025852;
+
+export interface CompileOptions {
+  /** Switches and buttons to treat as closed (pressed), whatever the design says. */
+  close?: ReadonlySet<string>;
+  /** Per-section variation by section name; nominal where absent. */
+  variation?: ReadonlyMap<string, SectionVariation>;
+}
+
+/**
+ * Compiles a flat design for the solver. Reports a short circuit (a closed switch joining
+ * two fixed voltages that differ) as a diagnostic.
+ */
+export function compileCircuit(design: Design, options: CompileOptions = {}): { circuit: Circuit | undefined; diagnostics: Diagnostic[] } {
+  const diagnostics: Diagnostic[] = [];
+  const close = options.close ?? new Set<string>();
+  // Union-find over nets joined by closed switches.
+  const parent = new Map<string, string>();
+  const find = (x: string): string => {
+    let r = x;
+    while (parent.has(r)) r = parent.get(r)!;
+    return r;
+  };
+  for (const p of design.parts) {
+    if (p.type === 'switch' && (p.closed || close.has(p.name))) {
+      const a = find(p.a);
+      const b = find(p.b);
+      if (a !== b) parent.set(a, b);
+    }
+  }
+  // Fixed voltages: ground, stiff rails, stiff drives.
+  const fixedNames: string[] = [];
+  const fixedValues: number[] = [];
+  const fixedOf = new Map<string, number>();
+  const where = new Map<string, string>();
+  const fix = (net: string, volts: number, what: string): number | undefined => {
+    const root = find(net);
+    const have = fixedOf.get(root);
+    if (have !== undefined) {
+      if (fixedValues[have] !== volts) {
+        diagnostics.push(error('short-circuit', `short circuit: ${what} and ${where.get(root)} hold net '${net}' at different voltages`, undefined));
+        return undefined;
+      }
+      return have;
+    }
+    fixedOf.set(root, fixedNames.length);
+    where.set(root, what);
+    fixedNames.push(net);
+    fixedValues.push(volts);
+    return fixedNames.length - 1;
+  };
+  fix(GROUND, 0, 'ground');
+  const railSources: { net: string; volts: number; ohms: number }[] = [];
+  for (const r of design.rails) {
+    if (r.sourceOhms > 0) railSources.push({ net: r.name, volts: r.volts, ohms: r.sourceOhms });
+    else fix(r.name, r.volts, `rail '${r.name}'`);
+  }
+  for (const p of design.parts) {
+    if (p.type === 'drive') {
+      if (p.sourceOhms > 0) railSources.push({ net: p.node, volts: p.volts, ohms: p.sourceOhms });
+      else fix(p.node, p.volts, `drive '${p.name}'`);
+    }
+  }
+  if (diagnostics.length > 0) return { circuit: undefined, diagnostics };
+
+  const nodeNames: string[] = [];
+  const unknownOf = new Map<string, number>();
+  const terminal = (net: string): number => {
+    const root = find(net);
+    const f = fixedOf.get(root);
+    if (f !== undefined) return -1 - f;
+    let u = unknownOf.get(root);
+    if (u === undefined) {
+      u = nodeNames.length;
+      unknownOf.set(root, u);
+      nodeNames.push(root);
+    }
+    return u;
+  };
+  const internal = (name: string): number => {
+    nodeNames.push(name);
+    return nodeNames.length - 1;
+  };
+
+  const gA: number[] = [];
+  const gB: number[] = [];
+  const gS: number[] = [];
+  const gPart: number[] = [];
+  const conductance = (a: number, b: number, siemens: number, part: number) => {
+    gA.push(a);
+    gB.push(b);
+    gS.push(siemens);
+    gPart.push(part);
+  };
+  for (const s of railSources) {
+    const f = fixedNames.length;
+    fixedNames.push(`${s.net}:source`);
+    fixedValues.push(s.volts);
+    conductance(terminal(s.net), -1 - f, 1 / s.ohms, -1);
+  }
+
+  const models = new Map<string, TubeModel>(design.models.map((m) => [m.name, m]));
+  const tubes: { a: number; g: number; k: number; s: number; screen: boolean; part: number; model: TubeModel; variation: SectionVariation }[] = [];
+  const diodes: { a: number; k: number; is: number; nvt: number; part: number }[] = [];
+  const partIndex = new Map<string, number>();
+  design.parts.forEach((p, index) => {
+    partIndex.set(p.name, index);
+    switch (p.type) {
+      case 'resistor':
+        conductance(terminal(p.a), terminal(p.b), 1 / p.ohms, index);
+        break;
+      case 'tube': {
+        const model = models.get(p.model)!;
+        const variation = options.variation?.get(p.name) ?? NOMINAL_VARIATION;
+        let k = terminal(p.cathode);
+        if (variation.cathodeOhms > 0) {
+          const inner = internal(`${p.name}:k`);
+          conductance(inner, k, 1 / variation.cathodeOhms, -1);
+          k = inner;
+        }
+        const screen = p.screen !== undefined;
+        tubes.push({ a: terminal(p.plate), g: terminal(p.grid), k, s: screen ? terminal(p.screen!) : -1, screen, part: index, model, variation });
+        break;
+      }
+      case 'diode': {
+        let k = terminal(p.cathode);
+        if (p.rs > 0) {
+          const j = internal(`${p.name}:j`);
+          conductance(j, k, 1 / p.rs, -1);
+          k = j;
+        }
+        diodes.push({ a: terminal(p.anode), k, is: p.is, nvt: p.n * THERMAL_VOLTS, part: index });
+        break;
+      }
+      default:
+        for (const net of p.type === 'drive' ? [p.node] : [p.a, p.b]) terminal(net);
+    }
+  });
+  const terminalOf = new Map<string, number>();
+  for (const r of design.rails) terminalOf.set(r.name, terminal(r.name));
+  terminalOf.set(GROUND, terminal(GROUND));
+  for (const p of design.parts) {
+    const nets = p.type === 'tube' ? [p.plate, p.grid, p.cathode, ...(p.screen ? [p.screen] : [])] : p.type === 'diode' ? [p.anode, p.cathode] : p.type === 'drive' ? [p.node] : [p.a, p.b];
+    for (const net of nets) terminalOf.set(net, terminal(net));
+  }
+
+  const tubeParams = new Float64Array(tubes.length * P.size);
+  tubes.forEach((t, i) => packSection(t.model, t.variation, tubeParams, i * P.size));
+  const circuit: Circuit = {
+    n: nodeNames.length,
+    nodeNames,
+    terminalOf,
+    fixedNames,
+    fixedNominal: Float64Array.from(fixedValues),
+    fixedVolts: Float64Array.from(fixedValues),
+    gA: Int32Array.from(gA),
+    gB: Int32Array.from(gB),
+    gS: Float64Array.from(gS),
+    gPart: Int32Array.from(gPart),
+    tA: Int32Array.from(tubes.map((t) => t.a)),
+    tG: Int32Array.from(tubes.map((t) => t.g)),
+    tK: Int32Array.from(tubes.map((t) => t.k)),
+    tS: Int32Array.from(tubes.map((t) => (t.screen ? t.s : -1))),
+    hasScreen: Uint8Array.from(tubes.map((t) => (t.screen ? 1 : 0))),
+    tubeParams,
+    tubePart: Int32Array.from(tubes.map((t) => t.part)),
+    dA: Int32Array.from(diodes.map((d) => d.a)),
+    dK: Int32Array.from(diodes.map((d) => d.k)),
+    dIs: Float64Array.from(diodes.map((d) => d.is)),
+    dNVt: Float64Array.from(diodes.map((d) => d.nvt)),
+    diodePart: Int32Array.from(diodes.map((d) => d.part)),
+    partIndex,
+    design,
+  };
+  return { circuit, diagnostics };
+}

@@ -1,0 +1,281 @@
+import { R, evaluateTube, P } from '../models/tubeEquations.js';
+import type { Circuit } from './circuit.js';
+import type { LinearSystem, LinearSystemFactory } from './linearSystem.js';
+import { SparseLu } from './sparseLu.js';
+
+/** Settings of one Newton run. */
+export interface NewtonSettings {
+  /** Conductance from every node to ground (siemens). */
+  gmin: number;
+  /** Scale of every fixed voltage (source stepping); 1 for the real circuit. */
+  sourceScale: number;
+  /** Largest change of any node voltage in one iteration (volts); Infinity for undamped Newton. */
+  maxStep: number;
+  maxIterations: number;
+  /** Pins: conductance of each pinned node to its target (0 where not pinned). */
+  pinSiemens?: Float64Array;
+  pinVolts?: Float64Array;
+}
+
+export interface NewtonResult {
+  converged: boolean;
+  iterations: number;
+  /** Largest KCL residual of the system solved, gmin and pins included (amps). */
+  residual: number;
+}
+
+/** A diode's exponent is linearised above this many n·Vt (or where its current passes 10 A), to keep exp finite. */
+const MAX_DIODE_EXPONENT = 40;
+
+/**
+ * The DC system of one compiled circuit: the Jacobian's pattern and its factorisation
+ * (symbolic work done once, here), the slot of every stamp, and the buffers of the Newton
+ * loop. One instance serves every solve of the same topology: tolerance corners, samples,
+ * homotopy steps.
+ */
+export class DcSystem {
+  readonly lu: LinearSystem;
+  /** Residual (KCL: current leaving each node) of the last assembly. */
+  readonly f: Float64Array;
+  private readonly dx: Float64Array;
+  private readonly eval = new Float64Array(R.size);
+  private readonly gSlots: Int32Array;
+  private readonly tSlots: Int32Array;
+  private readonly dSlots: Int32Array;
+  private readonly diagSlots: Int32Array;
+  /** Newton iterations done since construction, for benchmarks. */
+  iterationCount = 0;
+
+  constructor(
+    readonly circuit: Circuit,
+    factory: LinearSystemFactory = (n, r, c) => new SparseLu(n, r, c),
+  ) {
+    const c = circuit;
+    const rows: number[] = [];
+    const cols: number[] = [];
+    const add = (a: number, b: number) => {
+      if (a >= 0 && b >= 0) {
+        rows.push(a);
+        cols.push(b);
+      }
+    };
+    for (let i = 0; i < c.n; i++) add(i, i);
+    for (let e = 0; e < c.gA.length; e++) {
+      const a = c.gA[e]!;
+      const b = c.gB[e]!;
+      add(a, b);
+      add(b, a);
+    }
+    const tubeTerms = (t: number) => [c.tA[t]!, c.tG[t]!, c.tK[t]!, c.hasScreen[t] ? c.tS[t]! : -1];
+    for (let t = 0; t < c.tA.length; t++) {
+      const ts = tubeTerms(t);
+      for (const a of ts) for (const b of ts) add(a, b);
+    }
+    for (let d = 0; d < c.dA.length; d++) {
+      const ts = [c.dA[d]!, c.dK[d]!];
+      for (const a of ts) for (const b of ts) add(a, b);
+    }
+    this.lu = factory(c.n, rows, cols);
+    const slot = (a: number, b: number) => (a >= 0 && b >= 0 ? this.lu.position(a, b) : -1);
+    this.gSlots = new Int32Array(c.gA.length * 4);
+    for (let e = 0; e < c.gA.length; e++) {
+      const a = c.gA[e]!;
+      const b = c.gB[e]!;
+      this.gSlots.set([slot(a, a), slot(a, b), slot(b, a), slot(b, b)], e * 4);
+    }
+    this.tSlots = new Int32Array(c.tA.length * 16);
+    for (let t = 0; t < c.tA.length; t++) {
+      const ts = tubeTerms(t);
+      for (let r = 0; r < 4; r++) for (let q = 0; q < 4; q++) this.tSlots[t * 16 + r * 4 + q] = slot(ts[r]!, ts[q]!);
+    }
+    this.dSlots = new Int32Array(c.dA.length * 4);
+    for (let d = 0; d < c.dA.length; d++) {
+      const a = c.dA[d]!;
+      const k = c.dK[d]!;
+      this.dSlots.set([slot(a, a), slot(a, k), slot(k, a), slot(k, k)], d * 4);
+    }
+    this.diagSlots = new Int32Array(c.n);
+    for (let i = 0; i < c.n; i++) this.diagSlots[i] = slot(i, i);
+    this.f = new Float64Array(c.n);
+    this.dx = new Float64Array(c.n);
+  }
+
+  /**
+   * Stamps the Jacobian into the linear system and the residual into `f` at node voltages
+   * `x`. Without `withDevices` the tubes and diodes are left out (all cut off), which makes
+   * the system linear: one solve gives the circuit with every tube off, a safe first guess.
+   */
+  assemble(x: Float64Array, s: NewtonSettings, withDevices = true): void {
+    const c = this.circuit;
+    const f = this.f;
+    const v = this.lu.values;
+    this.lu.clear();
+    f.fill(0);
+    const fixed = c.fixedVolts;
+    const scale = s.sourceScale;
+    const volt = (t: number) => (t >= 0 ? x[t]! : fixed[-1 - t]! * scale);
+    for (let i = 0; i < c.n; i++) {
+      let g = s.gmin;
+      f[i] = s.gmin * x[i]!;
+      const pin = s.pinSiemens?.[i] ?? 0;
+      if (pin > 0) {
+        g += pin;
+        f[i]! += pin * (x[i]! - s.pinVolts![i]!);
+      }
+      v[this.diagSlots[i]!]! += g;
+    }
+    const gA = c.gA;
+    const gB = c.gB;
+    const gS = c.gS;
+    const gSlots = this.gSlots;
+    for (let e = 0; e < gA.length; e++) {
+      const a = gA[e]!;
+      const b = gB[e]!;
+      const g = gS[e]!;
+      const i = g * (volt(a) - volt(b));
+      const o = e * 4;
+      if (a >= 0) {
+        f[a]! += i;
+        v[gSlots[o]!]! += g;
+        if (b >= 0) v[gSlots[o + 1]!]! -= g;
+      }
+      if (b >= 0) {
+        f[b]! -= i;
+        v[gSlots[o + 3]!]! += g;
+        if (a >= 0) v[gSlots[o + 2]!]! -= g;
+      }
+    }
+    if (!withDevices) return;
+    const r = this.eval;
+    const tSlots = this.tSlots;
+    const params = c.tubeParams;
+    const put = (sl: number, value: number) => {
+      if (sl >= 0) v[sl]! += value;
+    };
+    for (let t = 0; t < c.tA.length; t++) {
+      const ta = c.tA[t]!;
+      const tg = c.tG[t]!;
+      const tk = c.tK[t]!;
+      const screen = c.hasScreen[t] === 1;
+      const ts = screen ? c.tS[t]! : -1;
+      const vk = volt(tk);
+      evaluateTube(params, t * P.size, volt(tg) - vk, volt(ta) - vk, screen ? volt(ts) - vk : 0, r, 0);
+      const ia = r[R.ia]!;
+      const ig = r[R.ig]!;
+      const is = screen ? r[R.is]! : 0;
+      if (ta >= 0) f[ta]! += ia;
+      if (tg >= 0) f[tg]! += ig;
+      if (screen && ts >= 0) f[ts]! += is;
+      if (tk >= 0) f[tk]! -= ia + ig + is;
+      // Rows: plate, grid, cathode, screen; columns likewise.
+      const aA = r[R.iaVa]!;
+      const aG = r[R.iaVg]!;
+      const aS = r[R.iaVs]!;
+      const gG = r[R.igVg]!;
+      const sA = screen ? r[R.isVa]! : 0;
+      const sG = screen ? r[R.isVg]! : 0;
+      const sS = screen ? r[R.isVs]! : 0;
+      const o = t * 16;
+      // plate row
+      put(tSlots[o]!, aA);
+      put(tSlots[o + 1]!, aG);
+      put(tSlots[o + 2]!, -(aA + aG + aS));
+      put(tSlots[o + 3]!, aS);
+      // grid row
+      put(tSlots[o + 5]!, gG);
+      put(tSlots[o + 6]!, -gG);
+      // cathode row: minus the sum of the other three
+      put(tSlots[o + 8]!, -(aA + sA));
+      put(tSlots[o + 9]!, -(aG + gG + sG));
+      put(tSlots[o + 10]!, aA + aG + aS + gG + sA + sG + sS);
+      put(tSlots[o + 11]!, -(aS + sS));
+      // screen row
+      if (screen) {
+        put(tSlots[o + 12]!, sA);
+        put(tSlots[o + 13]!, sG);
+        put(tSlots[o + 14]!, -(sA + sG + sS));
+        put(tSlots[o + 15]!, sS);
+      }
+    }
+    const dSlots = this.dSlots;
+    for (let d = 0; d < c.dA.length; d++) {
+      const a = c.dA[d]!;
+      const k = c.dK[d]!;
+      const is = c.dIs[d]!;
+      const nvt = c.dNVt[d]!;
+      const u = (volt(a) - volt(k)) / nvt;
+      const uMax = Math.min(MAX_DIODE_EXPONENT, Math.log(10 / is + 1));
+      let i: number;
+      let g: number;
+      if (u > uMax) {
+        const e = Math.exp(uMax);
+        i = is * (e * (1 + u - uMax) - 1);
+        g = (is * e) / nvt;
+      } else {
+        const e = Math.exp(u);
+        i = is * (e - 1);
+        g = (is * e) / nvt;
+      }
+      const o = d * 4;
+      if (a >= 0) {
+        f[a]! += i;
+        v[dSlots[o]!]! += g;
+        if (k >= 0) v[dSlots[o + 1]!]! -= g;
+      }
+      if (k >= 0) {
+        f[k]! -= i;
+        v[dSlots[o + 3]!]! += g;
+        if (a >= 0) v[dSlots[o + 2]!]! -= g;
+      }
+    }
+  }
+
+  /**
+   * Newton's method from `x` (updated in place). Converged when the largest residual is
+   * below 1e-11 A and the last step below 1e-9 V. Steps are scaled down so no node moves
+   * more than `maxStep` in one iteration.
+   */
+  newton(x: Float64Array, s: NewtonSettings): NewtonResult {
+    const n = this.circuit.n;
+    const f = this.f;
+    const dx = this.dx;
+    let lastStep = Infinity;
+    for (let it = 1; it <= s.maxIterations; it++) {
+      this.iterationCount++;
+      this.assemble(x, s);
+      let residual = 0;
+      for (let i = 0; i < n; i++) residual = Math.max(residual, Math.abs(f[i]!));
+      if (residual < 1e-11 && lastStep < 1e-9) return { converged: true, iterations: it, residual };
+      if (!this.lu.factor()) return { converged: false, iterations: it, residual };
+      this.lu.solve(f, dx);
+      let step = 0;
+      for (let i = 0; i < n; i++) step = Math.max(step, Math.abs(dx[i]!));
+      if (!Number.isFinite(step)) return { converged: false, iterations: it, residual };
+      const k = step > s.maxStep ? s.maxStep / step : 1;
+      for (let i = 0; i < n; i++) x[i] = x[i]! - k * dx[i]!;
+      lastStep = step * k;
+      if (residual < 1e-11 && lastStep < 1e-9) return { converged: true, iterations: it, residual };
+    }
+    return { converged: false, iterations: s.maxIterations, residual: Infinity };
+  }
+
+  /** The circuit with every tube cut off, solved exactly (it is linear): a first guess. */
+  devicesOff(x: Float64Array, s: NewtonSettings): boolean {
+    x.fill(0);
+    this.assemble(x, s, false);
+    if (!this.lu.factor()) return false;
+    this.lu.solve(this.f, this.dx);
+    for (let i = 0; i < x.length; i++) x[i] = -this.dx[i]!;
+    return true;
+  }
+
+  /** Largest KCL residual of the real circuit (no gmin, no pins, full sources) at `x`, and where. */
+  trueResidual(x: Float64Array): { amps: number; worst: number[] } {
+    this.assemble(x, { gmin: 0, sourceScale: 1, maxStep: Infinity, maxIterations: 0 });
+    const f = this.f;
+    let amps = 0;
+    for (let i = 0; i < f.length; i++) amps = Math.max(amps, Math.abs(f[i]!));
+    const worst = [...f.keys()].sort((a, b) => Math.abs(f[b]!) - Math.abs(f[a]!)).slice(0, 5);
+    return { amps, worst };
+  }
+}

@@ -1,0 +1,281 @@
+import { GROUND, type Design } from '../design/model.js';
+import { buildStageGraph, type StageGraph } from '../graph/stageGraph.js';
+import { R, evaluateTube, P } from '../models/tubeEquations.js';
+import { error, warning, type Diagnostic } from '../source/diagnostic.js';
+import { compileCircuit, type Circuit, type CompileOptions } from './circuit.js';
+import { DcSystem, type NewtonSettings } from './dcSystem.js';
+import type { LinearSystemFactory } from './linearSystem.js';
+
+/** The logic state asked of a net: 1 high, 0 low. */
+export interface StateHint {
+  net: string;
+  high: boolean;
+}
+
+export interface SolveOptions extends CompileOptions {
+  /** Logic states to start from; each latch without one starts with its first net low. */
+  hints?: StateHint[];
+  /** Undamped Newton (no step limit): for tests that compare it with the damped one. */
+  undamped?: boolean;
+  /** Linear solver; the sparse LU unless a test or the bench asks for the dense reference. */
+  linear?: LinearSystemFactory;
+  /** A solved system of the same topology to reuse (its factorisation's symbolic work). */
+  system?: DcSystem;
+  /** A previous solution to start from instead of the devices-off guess. */
+  start?: Float64Array;
+}
+
+export interface TubeOperatingPoint {
+  name: string;
+  vak: number;
+  vgk: number;
+  vg2k: number | undefined;
+  plateAmps: number;
+  gridAmps: number;
+  screenAmps: number;
+  plateWatts: number;
+  screenWatts: number;
+}
+
+export interface ResistorOperatingPoint {
+  name: string;
+  amps: number;
+  watts: number;
+  ratingWatts: number;
+}
+
+export interface HintOutcome {
+  net: string;
+  high: boolean;
+  /** True when the tool chose this state (a latch nobody gave a hint for). */
+  assumed: boolean;
+  volts: number;
+  held: boolean;
+}
+
+export interface OperatingPoint {
+  converged: boolean;
+  /** How the solution was reached. */
+  method: 'newton' | 'gmin stepping' | 'source stepping';
+  iterations: number;
+  /** Voltage of every net of the design, rails and ground included. */
+  nodes: Map<string, number>;
+  tubes: TubeOperatingPoint[];
+  resistors: ResistorOperatingPoint[];
+  /** Largest KCL residual of the real circuit at the solution (amps). */
+  residualAmps: number;
+  hints: HintOutcome[];
+  diagnostics: Diagnostic[];
+  /** The solved unknowns, to warm-start another solve of the same system. */
+  x: Float64Array;
+  system: DcSystem;
+}
+
+/** KCL residual every reported solution must meet (amps). */
+export const RESIDUAL_LIMIT = 1e-9;
+
+/** Pin conductances stepped down to release a logic-consistent start (siemens), then 0. */
+const PIN_STEPS = [1e-2, 1e-3, 1e-4, 1e-5, 1e-6, 1e-7, 1e-8];
+const GMIN_FLOOR = 1e-12;
+const GMIN_STEPS = [1e-3, 1e-4, 1e-5, 1e-6, 1e-7, 1e-8, 1e-9, 1e-10, 1e-11, GMIN_FLOOR];
+const SOURCE_STEPS = [0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1];
+
+/** The voltage a net reads as high from: half its plate-load rail (or of the highest rail). */
+export function logicThreshold(design: Design, net: string): number {
+  return pullUpVolts(design, net) / 2;
+}
+
+function pullUpVolts(design: Design, net: string): number {
+  const rails = new Map(design.rails.map((r) => [r.name, r.volts]));
+  let best: number | undefined;
+  for (const p of design.parts) {
+    if (p.type !== 'resistor') continue;
+    const other = p.a === net ? p.b : p.b === net ? p.a : undefined;
+    const v = other === undefined ? undefined : rails.get(other);
+    if (v !== undefined && v > 0 && (best === undefined || p.role === 'load')) best = v;
+  }
+  return best ?? Math.max(1, ...design.rails.map((r) => r.volts));
+}
+
+/**
+ * The DC operating point of a design: modified nodal analysis (every net not held by a
+ * stiff source an unknown), solved by Newton's method with analytic Jacobians and step
+ * limiting, falling back on gmin stepping and then source stepping.
+ *
+ * State selection: hinted nets (and, for every latch no hint covers, its first net low)
+ * are first pinned towards their logic level through a conductance, which is then stepped
+ * down to zero; each stage starts from the last. So a latch settles in the stable state
+ * nearest the hint; if that state does not exist the pinned net lets go, and the outcome
+ * says the hint was not held. A latch whose two nets end within 10 % of their swing of
+ * each other is reported as undecided (the metastable point), never as a state.
+ *
+ * After every solve the KCL residual of the real circuit is checked at every node: above
+ * 1 nA the result is marked not converged, with the nets that would not settle.
+ */
+export function solveOperatingPoint(design: Design, options: SolveOptions = {}): OperatingPoint | { diagnostics: Diagnostic[] } {
+  let system = options.system;
+  const diagnostics: Diagnostic[] = [];
+  if (!system) {
+    const compiled = compileCircuit(design, options);
+    if (!compiled.circuit) return { diagnostics: compiled.diagnostics };
+    system = new DcSystem(compiled.circuit, options.linear);
+  }
+  const c = system.circuit;
+  const graph = buildStageGraph(design);
+  const hints = collectHints(design, graph, options.hints ?? [], c, diagnostics);
+  const rails = [0, ...design.rails.map((r) => r.volts)];
+  const span = Math.max(...rails) - Math.min(...rails);
+  const base: NewtonSettings = {
+    gmin: GMIN_FLOOR,
+    sourceScale: 1,
+    maxStep: options.undamped ? Infinity : Math.min(20, Math.max(1, span / 10)),
+    maxIterations: 200,
+  };
+  const x = new Float64Array(c.n);
+  if (options.start && options.start.length === c.n) x.set(options.start);
+  else system.devicesOff(x, base);
+
+  let iterations = 0;
+  let method: OperatingPoint['method'] = 'newton';
+  const run = (s: NewtonSettings): boolean => {
+    const r = system.newton(x, s);
+    iterations += r.iterations;
+    return r.converged;
+  };
+  const robust = (s: NewtonSettings): boolean => {
+    const saved = Float64Array.from(x);
+    if (run(s)) return true;
+    x.set(saved);
+    method = 'gmin stepping';
+    if (GMIN_STEPS.every((g) => run({ ...s, gmin: Math.max(g, s.gmin) }))) return true;
+    x.set(saved);
+    method = 'source stepping';
+    return SOURCE_STEPS.every((k) => run({ ...s, sourceScale: k, gmin: 1e-9 })) && run(s);
+  };
+
+  let converged: boolean;
+  const pinned = hints.filter((h) => h.terminal >= 0);
+  if (pinned.length > 0) {
+    const pinSiemens = new Float64Array(c.n);
+    const pinVolts = new Float64Array(c.n);
+    for (const h of pinned) {
+      pinVolts[h.terminal] = h.high ? h.pullUp : 0.1 * h.pullUp;
+      x[h.terminal] = pinVolts[h.terminal]!;
+    }
+    converged = true;
+    for (const g of PIN_STEPS) {
+      for (const h of pinned) pinSiemens[h.terminal] = g;
+      converged = robust({ ...base, pinSiemens, pinVolts }) && converged;
+    }
+    converged = robust(base) && converged;
+  } else converged = robust(base);
+
+  const residual = system.trueResidual(x);
+  if (!converged || residual.amps > RESIDUAL_LIMIT) {
+    const worst = residual.worst.filter((i) => Math.abs(system.f[i]!) > RESIDUAL_LIMIT).map((i) => c.nodeNames[i]!);
+    diagnostics.push(
+      error('no-convergence', `the operating point did not converge: KCL residual ${residual.amps.toExponential(2)} A (limit 1 nA)`, undefined, [
+        `nets that would not settle: ${worst.join(', ') || 'none above the limit; Newton stopped early'}`,
+      ]),
+    );
+    converged = false;
+  }
+  const nodes = new Map<string, number>();
+  const volt = (t: number) => (t >= 0 ? x[t]! : c.fixedVolts[-1 - t]!);
+  for (const [net, t] of c.terminalOf) nodes.set(net, volt(t));
+  nodes.set(GROUND, 0);
+
+  const outcomes: HintOutcome[] = hints.map((h) => {
+    const volts = nodes.get(h.net) ?? 0;
+    const held = h.high ? volts > h.pullUp / 2 : volts <= h.pullUp / 2;
+    if (!held) {
+      diagnostics.push(
+        warning('hint-not-held', `${h.net} was started ${h.high ? 'high' : 'low'} but settled at ${volts.toFixed(2)} V: that state does not exist${h.assumed ? '' : ' (the hint was released)'}`, undefined),
+      );
+    }
+    return { net: h.net, high: h.high, assumed: h.assumed, volts, held };
+  });
+  for (const loop of graph.loops) {
+    if (loop.kind !== 'latch') continue;
+    const [a, b] = loop.nets as [string, string];
+    const swing = pullUpVolts(design, a);
+    const va = nodes.get(a) ?? 0;
+    const vb = nodes.get(b) ?? 0;
+    if (Math.abs(va - vb) < 0.1 * swing) {
+      diagnostics.push(warning('state-undecided', `latch ${a}/${b} sits undecided at ${va.toFixed(2)} V / ${vb.toFixed(2)} V: it holds no state here`, undefined));
+    }
+  }
+  return { converged, method, iterations, nodes, tubes: tubeReport(c, x), resistors: resistorReport(c, x), residualAmps: residual.amps, hints: outcomes, diagnostics, x, system };
+}
+
+interface ResolvedHint {
+  net: string;
+  high: boolean;
+  assumed: boolean;
+  terminal: number;
+  pullUp: number;
+}
+
+function collectHints(design: Design, graph: StageGraph, given: StateHint[], c: Circuit, diagnostics: Diagnostic[]): ResolvedHint[] {
+  const out: ResolvedHint[] = [];
+  const seen = new Set<string>();
+  const resolve = (h: StateHint, assumed: boolean) => {
+    const t = c.terminalOf.get(h.net);
+    if (t === undefined) {
+      diagnostics.push(error('unknown-net', `hint for unknown net '${h.net}'`, undefined));
+      return;
+    }
+    seen.add(h.net);
+    out.push({ net: h.net, high: h.high, assumed, terminal: t, pullUp: pullUpVolts(design, h.net) });
+  };
+  for (const h of given) resolve(h, false);
+  for (const loop of graph.loops) {
+    if (loop.kind !== 'latch') continue;
+    const [a, b] = loop.nets as [string, string];
+    if (seen.has(a) || seen.has(b)) continue;
+    resolve({ net: a, high: false }, true);
+  }
+  return out;
+}
+
+function tubeReport(c: Circuit, x: Float64Array): TubeOperatingPoint[] {
+  const r = new Float64Array(R.size);
+  const volt = (t: number) => (t >= 0 ? x[t]! : c.fixedVolts[-1 - t]!);
+  const out: TubeOperatingPoint[] = [];
+  for (let t = 0; t < c.tA.length; t++) {
+    const vk = volt(c.tK[t]!);
+    const vak = volt(c.tA[t]!) - vk;
+    const vgk = volt(c.tG[t]!) - vk;
+    const screen = c.hasScreen[t] === 1;
+    const vg2k = screen ? volt(c.tS[t]!) - vk : undefined;
+    evaluateTube(c.tubeParams, t * P.size, vgk, vak, vg2k ?? 0, r, 0);
+    const plateAmps = r[R.ia]!;
+    const screenAmps = screen ? r[R.is]! : 0;
+    out.push({
+      name: c.design.parts[c.tubePart[t]!]!.name,
+      vak,
+      vgk,
+      vg2k,
+      plateAmps,
+      gridAmps: r[R.ig]!,
+      screenAmps,
+      plateWatts: plateAmps * vak,
+      screenWatts: screenAmps * (vg2k ?? 0),
+    });
+  }
+  return out;
+}
+
+function resistorReport(c: Circuit, x: Float64Array): ResistorOperatingPoint[] {
+  const volt = (t: number) => (t >= 0 ? x[t]! : c.fixedVolts[-1 - t]!);
+  const out: ResistorOperatingPoint[] = [];
+  for (let e = 0; e < c.gA.length; e++) {
+    const part = c.gPart[e]!;
+    if (part < 0) continue;
+    const p = c.design.parts[part]!;
+    if (p.type !== 'resistor') continue;
+    const amps = (volt(c.gA[e]!) - volt(c.gB[e]!)) * c.gS[e]!;
+    out.push({ name: p.name, amps, watts: amps * amps * p.ohms, ratingWatts: p.watts });
+  }
+  return out;
+}
