@@ -65,6 +65,7 @@ export const TUBE_LIBRARY: readonly LibraryEntry[] = [
     ratings: { plateWatts: 2.5, heaterVolts: 12.6, heaterAmps: 0.15, heaterCathodeVolts: 90 },
     provenance: `${KOREN}; ${RCA}`,
     trustedPlateVolts: [100, 300],
+    caveats: "Koren's set gives 12.9 mA at the handbook point 250 V / −2 V, where the handbook says 10 mA: 28 % high",
   },
   {
     designation: '6DJ8',
@@ -99,13 +100,13 @@ export const TUBE_LIBRARY: readonly LibraryEntry[] = [
     designation: '6AU6',
     description: 'sharp-cutoff small pentode',
     sectionsPerEnvelope: 1,
-    model: { kind: 'koren-pentode', mu: 36, ex: 1.35, kg1: 347, kg2: 266, kp: 120, kvb: 10, rgi: 2000, vgamma: 0, spread: 0.25 },
+    model: { kind: 'koren-pentode', mu: 36, ex: 1.35, kg1: 2744, kg2: 266, kp: 120, kvb: 0.729, rgi: 2000, vgamma: 0, spread: 0.25 },
     ratings: { plateWatts: 3.5, screenWatts: 0.75, heaterVolts: 6.3, heaterAmps: 0.3, heaterCathodeVolts: 200 },
     provenance:
-      'fitted for logic use to the bench figure that a small pentode driven hard at 24 V looks like about 3 kΩ plate to cathode (common practice, no source); ' +
+      'kg1 and kvb fitted for logic use (tools/fit-logic-pentode.ts) to the bench figure that a small pentode driven hard at 24 V looks like about 3 kΩ plate to cathode, the ON plates of two latches at 5.5 V and 1.7 V (common practice, no source); ' +
       'mu 36 and the screen-to-plate current ratio 0.41 from the handbook (RCA Receiving Tube Manual, from memory); ex 1.35 as in Koren\'s pentode sets',
     trustedPlateVolts: [2, 60],
-    caveats: 'fitted at logic voltages only: at the handbook point (250 V plate, 150 V screen, −1 V grid) it gives about four times the handbook plate current',
+    caveats: 'fitted at logic voltages only, with a knee (kvb) far sharper than a real pentode\'s: it misses the handbook point (250 V plate, 150 V screen, −1 V grid) badly',
   },
   {
     designation: '6CB6',
