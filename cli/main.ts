@@ -2,6 +2,7 @@ import { Command, CommanderError } from 'commander';
 import { processIo, type CliIo } from './io.js';
 import { EXIT } from './load.js';
 import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
+import { SOLVE_HELP, SOLVE_SUMMARY, runSolve, type SolveCliOptions } from './solve.js';
 import { TUBES_SUMMARY, runTubes } from './tubes.js';
 
 const EXAMPLES = `
@@ -9,6 +10,8 @@ Examples:
   tubemargin show nets/crate-tally.tube          the expanded design, nets and loops
   tubemargin show nets/crate-tally.tube --json   the same as tubemargin.design/1 JSON
   tubemargin show design.json                    JSON designs are read wherever text is
+  tubemargin solve nets/nor-adder.tube           the DC operating point
+  tubemargin solve nets/irrigation-sequencer.tube --hint bed[1]/on=1 --close STOP
   tubemargin tubes                               the tube library
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
@@ -39,6 +42,19 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--json', 'print the flat design as tubemargin.design/1 JSON')
     .action((file: string, opts: { json?: boolean }) => {
       code = runShow(file, { ...program.opts(), ...opts }, io);
+    });
+
+  const collect = (value: string, previous: string[]) => [...previous, value];
+  program
+    .command('solve')
+    .summary(SOLVE_SUMMARY)
+    .description(SOLVE_SUMMARY + '\n' + SOLVE_HELP)
+    .argument('<file>', 'design file (.tube text or .json)')
+    .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect, [])
+    .option('--close <SWITCH>', 'close a switch or press a button for this solve; repeatable', collect, [])
+    .option('--json', 'print the operating point as tubemargin.solve/1 JSON')
+    .action((file: string, opts: SolveCliOptions) => {
+      code = runSolve(file, { ...program.opts(), ...opts }, io);
     });
 
   program

@@ -8,8 +8,9 @@
  * latches: the ON grid is driven as it was on the bench, through the other plate's
  * divider, and clamps a few tenths of a volt above the cathode.
  *
- * mu 36, ex 1.35 and kp 120 are held fixed and the knee kvb kept within 30 V; kg2 follows
- * from the handbook screen-to-plate current ratio (see the entry). The search is a coarse
+ * mu 36, ex 1.35 and kp 120 are held fixed and the knee kvb kept within 30 V. kg2 is then
+ * set so that, at 24 V screen and 0 V grid, the screen takes 0.41 of the plate's full
+ * current, the handbook's screen-to-plate ratio (RCA Receiving Tube Manual, from memory). The search is a coarse
  * grid, then finer grids around the best point; it prints the best pair and what it gives.
  * The latches' high levels, set by the grid clamps, are not fitted: they are the check.
  */
@@ -50,4 +51,7 @@ for (let i = 0; i < 3; i++) {
 }
 const kg1 = Math.round(best.kg1);
 const kvb = Number(best.kvb.toPrecision(3));
-console.log(`kg1 = ${kg1}, kvb = ${kvb}: 10 kΩ latch ON plate ${a(kg1, kvb).toFixed(2)} V, 33 kΩ latch ${b(kg1, kvb).toFixed(2)} V`);
+// Screen: (0 + 24/mu)^ex / kg2 = 0.41 · (π/2) · 2·E1^ex/kg1, with E1 = (24/kp)·ln(1 + e^(kp/mu)).
+const e1 = (24 / 120) * Math.log1p(Math.exp(120 / 36));
+const kg2 = Math.round((24 / 36) ** 1.35 / (0.41 * (Math.PI / 2) * ((2 * e1 ** 1.35) / kg1)));
+console.log(`kg1 = ${kg1}, kvb = ${kvb}, kg2 = ${kg2}: 10 kΩ latch ON plate ${a(kg1, kvb).toFixed(2)} V, 33 kΩ latch ${b(kg1, kvb).toFixed(2)} V`);

@@ -100,7 +100,7 @@ export const TUBE_LIBRARY: readonly LibraryEntry[] = [
     designation: '6AU6',
     description: 'sharp-cutoff small pentode',
     sectionsPerEnvelope: 1,
-    model: { kind: 'koren-pentode', mu: 36, ex: 1.35, kg1: 2744, kg2: 266, kp: 120, kvb: 0.729, rgi: 2000, vgamma: 0, spread: 0.25 },
+    model: { kind: 'koren-pentode', mu: 36, ex: 1.35, kg1: 2744, kg2: 2103, kp: 120, kvb: 0.729, rgi: 2000, vgamma: 0, spread: 0.25 },
     ratings: { plateWatts: 3.5, screenWatts: 0.75, heaterVolts: 6.3, heaterAmps: 0.3, heaterCathodeVolts: 200 },
     provenance:
       'kg1 and kvb fitted for logic use (tools/fit-logic-pentode.ts) to the bench figure that a small pentode driven hard at 24 V looks like about 3 kΩ plate to cathode, the ON plates of two latches at 5.5 V and 1.7 V (common practice, no source); ' +

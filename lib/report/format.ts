@@ -7,6 +7,7 @@ const PREFIXES: [number, string][] = [
   [1e-6, 'µ'],
   [1e-9, 'n'],
   [1e-12, 'p'],
+  [1e-15, 'f'],
 ];
 
 /**
@@ -15,7 +16,8 @@ const PREFIXES: [number, string][] = [
  */
 export function formatSI(value: number, unit: string): string {
   if (!Number.isFinite(value)) return `${value} ${unit}`;
-  if (value === 0) return `0 ${unit}`;
+  // Below a femto-unit nothing a builder measures is left: show it as zero.
+  if (Math.abs(value) < 1e-15) return `0 ${unit}`;
   const abs = Math.abs(value);
   const [scale, prefix] = PREFIXES.find(([s]) => abs >= s * 0.9995) ?? PREFIXES[PREFIXES.length - 1]!;
   const shown = Number((value / scale).toPrecision(3));

@@ -232,31 +232,71 @@ export class DcSystem {
 
   /**
    * Newton's method from `x` (updated in place). Converged when the largest residual is
-   * below 1e-11 A and the last step below 1e-9 V. Steps are scaled down so no node moves
-   * more than `maxStep` in one iteration.
+   * below 1e-11 A and the last step below 1e-9 V. No node moves more than `maxStep` in one
+   * iteration, and a step is halved (up to four times) while it makes the residual's norm
+   * grow, which stops Newton cycling round the corner where a grid starts to conduct.
    */
   newton(x: Float64Array, s: NewtonSettings): NewtonResult {
     const n = this.circuit.n;
     const f = this.f;
     const dx = this.dx;
     let lastStep = Infinity;
+    let lastNorm = Infinity;
+    let applied = 0;
+    let halvings = 0;
     for (let it = 1; it <= s.maxIterations; it++) {
       this.iterationCount++;
       this.assemble(x, s);
       let residual = 0;
-      for (let i = 0; i < n; i++) residual = Math.max(residual, Math.abs(f[i]!));
+      let norm = 0;
+      for (let i = 0; i < n; i++) {
+        const r = Math.abs(f[i]!);
+        residual = Math.max(residual, r);
+        norm += r * r;
+      }
       if (residual < 1e-11 && lastStep < 1e-9) return { converged: true, iterations: it, residual };
-      if (!this.lu.factor()) return { converged: false, iterations: it, residual };
+      if (norm > lastNorm && halvings < 4 && applied > 0 && s.maxStep !== Infinity) {
+        // Take back half of the last step and look again.
+        applied /= 2;
+        for (let i = 0; i < n; i++) x[i] = x[i]! - applied * dx[i]!;
+        halvings++;
+        continue;
+      }
+      halvings = 0;
+      lastNorm = norm;
+      if (!this.factorRegularised(x, s)) return { converged: false, iterations: it, residual };
       this.lu.solve(f, dx);
       let step = 0;
       for (let i = 0; i < n; i++) step = Math.max(step, Math.abs(dx[i]!));
       if (!Number.isFinite(step)) return { converged: false, iterations: it, residual };
-      const k = step > s.maxStep ? s.maxStep / step : 1;
-      for (let i = 0; i < n; i++) x[i] = x[i]! - k * dx[i]!;
-      lastStep = step * k;
+      applied = step > s.maxStep ? s.maxStep / step : 1;
+      for (let i = 0; i < n; i++) {
+        dx[i] = -applied * dx[i]!;
+        x[i] = x[i]! + dx[i]!;
+      }
+      applied = 1;
+      lastStep = step * (step > s.maxStep ? s.maxStep / step : 1);
       if (residual < 1e-11 && lastStep < 1e-9) return { converged: true, iterations: it, residual };
     }
     return { converged: false, iterations: s.maxIterations, residual: Infinity };
+  }
+
+  /**
+   * Factors the Jacobian stamped last. Far from the solution, stages in their linear region
+   * multiply their gains around a ring, and the factors can overflow; then the step is
+   * taken with the Jacobian's diagonal raised by a conductance (1e-7 S, growing tenfold up
+   * to 0.1 S), which lowers every stage's gain for this step only: a damped Newton step, as
+   * in Levenberg–Marquardt. The residual, and so the solution, are unchanged.
+   */
+  private factorRegularised(x: Float64Array, s: NewtonSettings): boolean {
+    if (this.lu.factor()) return true;
+    for (let shift = 1e-7; shift <= 0.1; shift *= 10) {
+      this.assemble(x, s);
+      const v = this.lu.values;
+      for (let i = 0; i < this.circuit.n; i++) v[this.diagSlots[i]!]! += shift;
+      if (this.lu.factor()) return true;
+    }
+    return false;
   }
 
   /** The circuit with every tube cut off, solved exactly (it is linear): a first guess. */

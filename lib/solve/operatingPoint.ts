@@ -23,6 +23,8 @@ export interface SolveOptions extends CompileOptions {
   system?: DcSystem;
   /** A previous solution to start from instead of the devices-off guess. */
   start?: Float64Array;
+  /** The design's stage graph, when the caller has it already. */
+  graph?: StageGraph;
 }
 
 export interface TubeOperatingPoint {
@@ -75,26 +77,39 @@ export interface OperatingPoint {
 export const RESIDUAL_LIMIT = 1e-9;
 
 /** Pin conductances stepped down to release a logic-consistent start (siemens), then 0. */
-const PIN_STEPS = [1e-2, 1e-3, 1e-4, 1e-5, 1e-6, 1e-7, 1e-8];
+const PIN_STEPS = [1e-2, 1e-4, 1e-6, 1e-8];
 const GMIN_FLOOR = 1e-12;
 const GMIN_STEPS = [1e-3, 1e-4, 1e-5, 1e-6, 1e-7, 1e-8, 1e-9, 1e-10, 1e-11, GMIN_FLOOR];
 const SOURCE_STEPS = [0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1];
 
 /** The voltage a net reads as high from: half its plate-load rail (or of the highest rail). */
 export function logicThreshold(design: Design, net: string): number {
-  return pullUpVolts(design, net) / 2;
+  return pullUpVolts(design)(net) / 2;
 }
 
-function pullUpVolts(design: Design, net: string): number {
-  const rails = new Map(design.rails.map((r) => [r.name, r.volts]));
-  let best: number | undefined;
-  for (const p of design.parts) {
-    if (p.type !== 'resistor') continue;
-    const other = p.a === net ? p.b : p.b === net ? p.a : undefined;
-    const v = other === undefined ? undefined : rails.get(other);
-    if (v !== undefined && v > 0 && (best === undefined || p.role === 'load')) best = v;
+const pullUpCache = new WeakMap<Design, Map<string, number>>();
+
+/** For every net, the positive rail its plate load (or any resistor) returns it to; the highest rail where none. */
+function pullUpVolts(design: Design): (net: string) => number {
+  let map = pullUpCache.get(design);
+  if (!map) {
+    map = new Map();
+    const rails = new Map(design.rails.map((r) => [r.name, r.volts]));
+    for (const p of design.parts) {
+      if (p.type !== 'resistor') continue;
+      for (const [net, other] of [
+        [p.a, p.b],
+        [p.b, p.a],
+      ] as const) {
+        const v = rails.get(other);
+        if (v !== undefined && v > 0 && (!map.has(net) || p.role === 'load')) map.set(net, v);
+      }
+    }
+    pullUpCache.set(design, map);
   }
-  return best ?? Math.max(1, ...design.rails.map((r) => r.volts));
+  const fallback = Math.max(1, ...design.rails.map((r) => r.volts));
+  const known = map;
+  return (net) => known.get(net) ?? fallback;
 }
 
 /**
@@ -121,7 +136,7 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
     system = new DcSystem(compiled.circuit, options.linear);
   }
   const c = system.circuit;
-  const graph = buildStageGraph(design);
+  const graph = options.graph ?? buildStageGraph(design);
   const hints = collectHints(design, graph, options.hints ?? [], c, diagnostics);
   const rails = [0, ...design.rails.map((r) => r.volts)];
   const span = Math.max(...rails) - Math.min(...rails);
@@ -198,7 +213,7 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
   for (const loop of graph.loops) {
     if (loop.kind !== 'latch') continue;
     const [a, b] = loop.nets as [string, string];
-    const swing = pullUpVolts(design, a);
+    const swing = pullUpVolts(design)(a);
     const va = nodes.get(a) ?? 0;
     const vb = nodes.get(b) ?? 0;
     if (Math.abs(va - vb) < 0.1 * swing) {
@@ -218,6 +233,7 @@ interface ResolvedHint {
 
 function collectHints(design: Design, graph: StageGraph, given: StateHint[], c: Circuit, diagnostics: Diagnostic[]): ResolvedHint[] {
   const out: ResolvedHint[] = [];
+  const pullUp = pullUpVolts(design);
   const seen = new Set<string>();
   const resolve = (h: StateHint, assumed: boolean) => {
     const t = c.terminalOf.get(h.net);
@@ -226,7 +242,7 @@ function collectHints(design: Design, graph: StageGraph, given: StateHint[], c: 
       return;
     }
     seen.add(h.net);
-    out.push({ net: h.net, high: h.high, assumed, terminal: t, pullUp: pullUpVolts(design, h.net) });
+    out.push({ net: h.net, high: h.high, assumed, terminal: t, pullUp: pullUp(h.net) });
   };
   for (const h of given) resolve(h, false);
   for (const loop of graph.loops) {

@@ -79,6 +79,7 @@ describe('the sparse LU', () => {
       [1, 3, 1],
       [0, 1, 2],
     ]);
+    expect(lu.factor()).toBe(true);
     const slots = lu.size;
     lu.clear();
     lu.values[lu.position(0, 0)] = 2;
@@ -93,8 +94,9 @@ describe('the sparse LU', () => {
 
   it('refuses a singular matrix rather than return garbage', () => {
     const lu = sparseFrom([
-      [1, 1],
-      [1, 1],
+      [1, 1, 0],
+      [1, 1, 0],
+      [0, 0, 1],
     ]);
     expect(lu.factor()).toBe(false);
   });
@@ -111,6 +113,13 @@ describe('the sparse LU', () => {
     rows.push(0, n - 1);
     cols.push(n - 1, 0); // close the ring
     const lu = new SparseLu(n, rows, cols);
+    for (let i = 0; i < n; i++) {
+      lu.values[lu.position(i, i)] = 3;
+      if (i > 0) (lu.values[lu.position(i, i - 1)] = -1), (lu.values[lu.position(i - 1, i)] = -1);
+    }
+    lu.values[lu.position(0, n - 1)] = -1;
+    lu.values[lu.position(n - 1, 0)] = -1;
+    expect(lu.factor()).toBe(true);
     expect(lu.size).toBeLessThan(6 * n);
   });
 });

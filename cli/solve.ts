@@ -1,0 +1,57 @@
+import { findPart, solveOperatingPoint, type StateHint } from '../lib/index.js';
+import { renderSolve, solveToJson } from '../lib/report/solveReport.js';
+import type { CliIo } from './io.js';
+import { EXIT, loadForCommand, type GlobalOptions } from './load.js';
+import { chalkFor } from './style.js';
+
+export const SOLVE_SUMMARY = 'solve the DC operating point: every node, section and resistor';
+
+export const SOLVE_HELP = `
+Solves the whole circuit at nominal values: every net's voltage, every section's
+electrode voltages, currents and plate dissipation, every resistor's power. Latches
+start from the states given with --hint (each latch without one starts with its first
+net low) and are then released, so the state reported is a stable one; a hint that does
+not hold means that state does not exist. --close presses a button or closes a switch.
+Exit code 1 when the solution does not converge or a hinted state does not hold.`;
+
+export interface SolveCliOptions extends GlobalOptions {
+  hint?: string[];
+  close?: string[];
+  json?: boolean;
+}
+
+export function runSolve(file: string, options: SolveCliOptions, io: CliIo): number {
+  const chalk = chalkFor(io, 'stderr');
+  const bad = (message: string) => {
+    io.stderr(`${chalk.red.bold('error')}: ${message}\n`);
+    return EXIT.badInput;
+  };
+  const hints: StateHint[] = [];
+  for (const h of options.hint ?? []) {
+    const m = /^([^=\s]+)=([01])$/.exec(h);
+    if (!m) return bad(`--hint takes NET=1 or NET=0, not '${h}'`);
+    hints.push({ net: m[1]!, high: m[2] === '1' });
+  }
+  const design = loadForCommand(file, io, options);
+  if (!design) return EXIT.badInput;
+  const close = new Set<string>();
+  for (const name of options.close ?? []) {
+    const found = findPart(design, name, 'switch');
+    if ('diagnostic' in found) return bad(`${found.diagnostic.message}${found.diagnostic.notes.length ? `; ${found.diagnostic.notes.join('; ')}` : ''} [unknown-part]`);
+    close.add(name);
+  }
+  const nets = new Set<string>();
+  for (const p of design.parts) for (const v of Object.values(p)) if (typeof v === 'string') nets.add(v);
+  for (const h of hints) {
+    if (!nets.has(h.net)) return bad(`--hint names unknown net '${h.net}' [unknown-net]`);
+  }
+  const op = solveOperatingPoint(design, { hints, close });
+  if (!('nodes' in op)) {
+    for (const d of op.diagnostics) io.stderr(`${chalk.red.bold('error')}: ${d.message} [${d.code}]\n`);
+    return EXIT.badInput;
+  }
+  if (options.json) io.stdout(JSON.stringify(solveToJson(design, op), null, 2) + '\n');
+  else io.stdout(renderSolve(design, op, file));
+  const failed = !op.converged || op.hints.some((h) => !h.held) || op.diagnostics.some((d) => d.code === 'state-undecided');
+  return failed ? EXIT.failed : EXIT.ok;
+}

@@ -1,0 +1,120 @@
+import { isGeneratedName, type Design } from '../design/model.js';
+import { compareNames } from '../graph/stageGraph.js';
+import type { OperatingPoint } from '../solve/operatingPoint.js';
+import { logicThreshold } from '../solve/operatingPoint.js';
+import { formatSI, table, wrap } from './format.js';
+import { safetyCautions } from './safety.js';
+import { REPORT_COLUMNS } from './showText.js';
+
+/** The JSON form of an operating point, `tubemargin.solve/1`: its own type, not the solver's. */
+export interface SolveJson {
+  schema: 'tubemargin.solve/1';
+  title: string;
+  converged: boolean;
+  method: string;
+  iterations: number;
+  residualAmps: number;
+  nodes: Record<string, number>;
+  tubes: Record<string, { vak: number; vgk: number; vg2k: number | null; plateAmps: number; gridAmps: number; screenAmps: number; plateWatts: number; screenWatts: number }>;
+  resistors: Record<string, { amps: number; watts: number; ratingWatts: number }>;
+  hints: { net: string; state: 0 | 1; assumed: boolean; volts: number; held: boolean }[];
+  warnings: { code: string; message: string }[];
+  cautions: string[];
+}
+
+export function solveToJson(design: Design, op: OperatingPoint): SolveJson {
+  const nodes: Record<string, number> = {};
+  for (const net of [...op.nodes.keys()].sort(compareNames)) nodes[net] = op.nodes.get(net)!;
+  const tubes: SolveJson['tubes'] = {};
+  for (const t of op.tubes) {
+    tubes[t.name] = { vak: t.vak, vgk: t.vgk, vg2k: t.vg2k ?? null, plateAmps: t.plateAmps, gridAmps: t.gridAmps, screenAmps: t.screenAmps, plateWatts: t.plateWatts, screenWatts: t.screenWatts };
+  }
+  const resistors: SolveJson['resistors'] = {};
+  for (const r of op.resistors) resistors[r.name] = { amps: r.amps, watts: r.watts, ratingWatts: r.ratingWatts };
+  return {
+    schema: 'tubemargin.solve/1',
+    title: design.title,
+    converged: op.converged,
+    method: op.method,
+    iterations: op.iterations,
+    residualAmps: op.residualAmps,
+    nodes,
+    tubes,
+    resistors,
+    hints: op.hints.map((h) => ({ net: h.net, state: h.high ? 1 : 0, assumed: h.assumed, volts: h.volts, held: h.held })),
+    warnings: op.diagnostics.map((d) => ({ code: d.code, message: d.message })),
+    cautions: safetyCautions(design),
+  };
+}
+
+const v2 = (x: number) => x.toFixed(2);
+
+/**
+ * The text of `tubemargin solve`: how the solution was reached and how well it satisfies
+ * KCL, the state of every latch, every net's voltage (and whether it reads high or low),
+ * every section's electrode voltages, currents and dissipation, and every resistor's
+ * current and power against its rating. Lines fit 80 columns.
+ */
+export function renderSolve(design: Design, op: OperatingPoint, source: string): string {
+  const out: string[] = [];
+  out.push(`${design.title || '(untitled design)'} — ${source}`);
+  out.push(
+    ...wrap(
+      `${op.converged ? 'Solved' : 'NOT CONVERGED'} by ${op.method} in ${op.iterations} Newton iterations; largest KCL residual ${op.residualAmps.toExponential(1)} A (limit 1 nA).`,
+      REPORT_COLUMNS,
+    ),
+  );
+  if (op.hints.length > 0) {
+    out.push('');
+    out.push('Started from');
+    for (const h of op.hints) {
+      out.push(`  ${h.net}=${h.high ? 1 : 0}${h.assumed ? ' (chosen by the tool; --hint picks another state)' : ''}: ${h.held ? 'held' : 'NOT HELD'} at ${v2(h.volts)} V`);
+    }
+  }
+  for (const d of op.diagnostics) out.push(...wrap(`${d.severity}: ${d.message}`, REPORT_COLUMNS));
+  out.push('');
+  const nets = [...op.nodes.keys()].sort(compareNames);
+  const rails = new Set(['gnd', ...design.rails.map((r) => r.name)]);
+  out.push(`Nets (${nets.length})`);
+  out.push(
+    ...table(
+      ['  net', 'volts', 'reads'],
+      nets.map((n) => {
+        const volts = op.nodes.get(n)!;
+        const reads = rails.has(n) ? 'rail' : isGeneratedName(n) && /\.(g\d+|sg)$/.test(n) ? 'grid node' : volts > logicThreshold(design, n) ? 'high' : 'low';
+        return ['  ' + n, v2(volts).padStart(8), reads];
+      }),
+      [30, 8],
+    ),
+  );
+  out.push('');
+  out.push(`Sections (${op.tubes.length})`);
+  out.push(
+    ...table(
+      ['  section', 'Vak', 'Vgk', 'Vg2k', 'Ia', 'Ig', 'Ig2', 'Pa'],
+      op.tubes.map((t) => [
+        '  ' + t.name,
+        v2(t.vak),
+        v2(t.vgk),
+        t.vg2k === undefined ? '—' : v2(t.vg2k),
+        formatSI(t.plateAmps, 'A'),
+        formatSI(t.gridAmps, 'A'),
+        t.vg2k === undefined ? '—' : formatSI(t.screenAmps, 'A'),
+        formatSI(t.plateWatts, 'W'),
+      ]),
+      [18, 7, 6, 6, 9, 9, 9],
+    ),
+  );
+  out.push('');
+  out.push(`Resistors (${op.resistors.length})`);
+  out.push(
+    ...table(
+      ['  resistor', 'current', 'power', 'rating', 'of rating'],
+      op.resistors.map((r) => ['  ' + r.name, formatSI(Math.abs(r.amps), 'A'), formatSI(r.watts, 'W'), formatSI(r.ratingWatts, 'W'), `${Math.round((100 * r.watts) / r.ratingWatts)} %`]),
+      [20, 9, 9, 8],
+    ),
+  );
+  const cautions = safetyCautions(design);
+  if (cautions.length > 0) out.push('', ...cautions.flatMap((c) => wrap(c, REPORT_COLUMNS)));
+  return out.join('\n') + '\n';
+}
