@@ -299,6 +299,29 @@ export class DcSystem {
     return false;
   }
 
+  /** One Newton iteration's linear algebra at `x` (assemble, factor, solve) without moving `x`: for benchmarks. */
+  linearise(x: Float64Array, s: NewtonSettings): boolean {
+    this.assemble(x, s);
+    if (!this.lu.factor()) return false;
+    this.lu.solve(this.f, this.dx);
+    return true;
+  }
+
+  /** Evaluates every tube section's equations once at `x`, the work no solver can skip: for benchmarks. */
+  evaluateSections(x: Float64Array, s: NewtonSettings): number {
+    const c = this.circuit;
+    const r = this.eval;
+    const fixed = c.fixedVolts;
+    const volt = (t: number) => (t >= 0 ? x[t]! : fixed[-1 - t]! * s.sourceScale);
+    let sum = 0;
+    for (let t = 0; t < c.tA.length; t++) {
+      const vk = volt(c.tK[t]!);
+      evaluateTube(c.tubeParams, t * P.size, volt(c.tG[t]!) - vk, volt(c.tA[t]!) - vk, c.hasScreen[t] ? volt(c.tS[t]!) - vk : 0, r, 0);
+      sum += r[R.ia]!;
+    }
+    return sum;
+  }
+
   /** The circuit with every tube cut off, solved exactly (it is linear): a first guess. */
   devicesOff(x: Float64Array, s: NewtonSettings): boolean {
     x.fill(0);

@@ -1,0 +1,74 @@
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { readDesignFile, type CliIo } from '../../cli/io.js';
+import { runCli } from '../../cli/main.js';
+import { ROOT } from '../helpers.js';
+
+async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
+  let out = '';
+  let err = '';
+  const io: CliIo = { stdout: (t) => void (out += t), stderr: (t) => void (err += t), readFile: (p) => readDesignFile(join(ROOT, p)), stdoutIsTTY: false, stderrIsTTY: false, env: {} };
+  const code = await runCli(args, io);
+  return { code, out, err };
+}
+
+describe('tubemargin solve', () => {
+  it('prints every net, section and resistor of the operating point within 80 columns', async () => {
+    const r = await run(['solve', 'nets/nor-adder.tube']);
+    expect(r.code).toBe(0);
+    expect(r.err).toBe('');
+    for (const heading of ['Solved by', 'Nets (', 'Sections (', 'Resistors (']) expect(r.out).toContain(heading);
+    expect(r.out).toMatch(/\n {2}sum +2\d\.\d\d {2}high\n/);
+    for (const line of r.out.split('\n')) expect(line.length).toBeLessThanOrEqual(80);
+  });
+
+  it('writes tubemargin.solve/1 JSON with every node and a KCL residual under 1 nA', async () => {
+    const r = await run(['solve', 'nets/nor-adder.tube', '--json']);
+    const json = JSON.parse(r.out);
+    expect(json.schema).toBe('tubemargin.solve/1');
+    expect(json.converged).toBe(true);
+    expect(json.residualAmps).toBeLessThan(1e-9);
+    // The adder's inputs are a = 0, b = 0, carry-in = 1: sum is 1, carry-out 0.
+    expect(json.nodes.sum).toBeGreaterThan(12);
+    expect(json.nodes.cout).toBeLessThan(12);
+    expect(Object.keys(json.tubes)).toHaveLength(18);
+    expect(json.resistors['x1.load'].watts).toBeGreaterThan(0);
+  });
+
+  it('prints both states of a latch on request', async () => {
+    const on = JSON.parse((await run(['solve', 'nets/irrigation-sequencer.tube', '--hint', 'bed[1]/on=1', '--json'])).out);
+    const off = JSON.parse((await run(['solve', 'nets/irrigation-sequencer.tube', '--hint', 'bed[1]/on=0', '--json'])).out);
+    expect(on.nodes['bed[1]/on']).toBeGreaterThan(15);
+    expect(off.nodes['bed[1]/on']).toBeLessThan(6);
+    expect(on.hints[0]).toMatchObject({ net: 'bed[1]/on', state: 1, held: true, assumed: false });
+  });
+
+  it('presses a button with --close', async () => {
+    const r = JSON.parse((await run(['solve', 'nets/irrigation-sequencer.tube', '--close', 'bed[3]/START', '--hint', 'bed[3]/on=0', '--json'])).out);
+    expect(r.nodes['bed[3]/on']).toBeGreaterThan(15);
+  });
+
+  it('exits 1 when the hinted state does not exist: a latch whose pull-downs return to 0 V holds nothing', async () => {
+    const r = await run(['solve', 'docs/examples/grounded-latch.tube', '--hint', 'q=1']);
+    expect(r.code).toBe(1);
+    expect(r.out).toContain('q=1: NOT HELD');
+    expect(r.out).toContain('undecided');
+  });
+
+  it('exits 2 on a malformed hint, an unknown net or an unknown switch, with a suggestion', async () => {
+    expect((await run(['solve', 'nets/nor-adder.tube', '--hint', 'x1=high'])).code).toBe(2);
+    const net = await run(['solve', 'nets/nor-adder.tube', '--hint', 'x9=1']);
+    expect(net.code).toBe(2);
+    expect(net.err).toContain("unknown net 'x9'");
+    const sw = await run(['solve', 'nets/nor-adder.tube', '--close', 'SX']);
+    expect(sw.code).toBe(2);
+    expect(sw.err).toContain("did you mean 'SA'?");
+  });
+
+  it('carries the safety cautions for a design above 60 V', async () => {
+    const r = await run(['solve', 'nets/crate-tally.tube', '--hint', 'on[0]=1']);
+    expect(r.code).toBe(0);
+    expect(r.out).toContain('CAUTION');
+    expect(JSON.parse((await run(['solve', 'nets/crate-tally.tube', '--json'])).out).cautions.length).toBeGreaterThan(0);
+  });
+});
