@@ -24,6 +24,24 @@ export interface NewtonResult {
   residual: number;
 }
 
+/**
+ * Stamps a two-terminal branch carrying current `i` from terminal `a` to `b` with
+ * conductance `g` = ∂i/∂(va − vb): residual into `f`, Jacobian into `v` at the four slots
+ * from `o` in `slots` (aa, ab, ba, bb). Fixed terminals (negative) are skipped.
+ */
+function stampBranch(f: Float64Array, v: Float64Array, slots: Int32Array, o: number, a: number, b: number, i: number, g: number): void {
+  if (a >= 0) {
+    f[a]! += i;
+    v[slots[o]!]! += g;
+    if (b >= 0) v[slots[o + 1]!]! -= g;
+  }
+  if (b >= 0) {
+    f[b]! -= i;
+    v[slots[o + 3]!]! += g;
+    if (a >= 0) v[slots[o + 2]!]! -= g;
+  }
+}
+
 /** A diode's exponent is linearised above this many n·Vt (or where its current passes 10 A), to keep exp finite. */
 const MAX_DIODE_EXPONENT = 40;
 
@@ -132,18 +150,7 @@ export class DcSystem {
       const a = gA[e]!;
       const b = gB[e]!;
       const g = gS[e]!;
-      const i = g * (volt(a) - volt(b));
-      const o = e * 4;
-      if (a >= 0) {
-        f[a]! += i;
-        v[gSlots[o]!]! += g;
-        if (b >= 0) v[gSlots[o + 1]!]! -= g;
-      }
-      if (b >= 0) {
-        f[b]! -= i;
-        v[gSlots[o + 3]!]! += g;
-        if (a >= 0) v[gSlots[o + 2]!]! -= g;
-      }
+      stampBranch(f, v, gSlots, e * 4, a, b, g * (volt(a) - volt(b)), g);
     }
     if (!withDevices) return;
     const r = this.eval;
@@ -216,17 +223,7 @@ export class DcSystem {
         i = is * (e - 1);
         g = (is * e) / nvt;
       }
-      const o = d * 4;
-      if (a >= 0) {
-        f[a]! += i;
-        v[dSlots[o]!]! += g;
-        if (k >= 0) v[dSlots[o + 1]!]! -= g;
-      }
-      if (k >= 0) {
-        f[k]! -= i;
-        v[dSlots[o + 3]!]! += g;
-        if (a >= 0) v[dSlots[o + 2]!]! -= g;
-      }
+      stampBranch(f, v, dSlots, d * 4, a, k, i, g);
     }
   }
 

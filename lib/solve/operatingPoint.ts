@@ -1,5 +1,6 @@
 import { GROUND, type Design } from '../design/model.js';
 import { buildStageGraph, type StageGraph } from '../graph/stageGraph.js';
+import { findLibraryEntry } from '../models/library.js';
 import { R, evaluateTube, P } from '../models/tubeEquations.js';
 import { error, warning, type Diagnostic } from '../source/diagnostic.js';
 import { compileCircuit, type Circuit, type CompileOptions } from './circuit.js';
@@ -220,7 +221,39 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
       diagnostics.push(warning('state-undecided', `latch ${a}/${b} sits undecided at ${va.toFixed(2)} V / ${vb.toFixed(2)} V: it holds no state here`, undefined));
     }
   }
-  return { converged, method, iterations, nodes, tubes: tubeReport(c, x), resistors: resistorReport(c, x), residualAmps: residual.amps, hints: outcomes, diagnostics, x, system };
+  const tubes = tubeReport(c, x);
+  diagnostics.push(...trustedRangeWarnings(design, tubes));
+  return { converged, method, iterations, nodes, tubes, resistors: resistorReport(c, x), residualAmps: residual.amps, hints: outcomes, diagnostics, x, system };
+}
+
+/** A section counts as conducting, for the trusted-range check, above this plate current. */
+const CONDUCTING_AMPS = 1e-6;
+
+/** Warns, per tube type from the library, of conducting sections whose plate voltage lies outside the range its fit is trusted over. */
+function trustedRangeWarnings(design: Design, tubes: TubeOperatingPoint[]): Diagnostic[] {
+  const modelOf = new Map(design.parts.filter((p) => p.type === 'tube').map((p) => [p.name, p.model]));
+  const byModel = new Map<string, number[]>();
+  for (const t of tubes) {
+    if (t.plateAmps < CONDUCTING_AMPS) continue;
+    const m = modelOf.get(t.name)!;
+    (byModel.get(m) ?? byModel.set(m, []).get(m)!).push(t.vak);
+  }
+  const out: Diagnostic[] = [];
+  for (const model of design.models) {
+    const entry = model.library ? findLibraryEntry(model.library) : undefined;
+    const vaks = byModel.get(model.name);
+    if (!entry || !vaks) continue;
+    const [lo, hi] = entry.trustedPlateVolts;
+    const outside = vaks.filter((v) => v < lo || v > hi);
+    if (outside.length === 0) continue;
+    const range = `${Math.min(...outside).toFixed(1)}–${Math.max(...outside).toFixed(1)} V`;
+    out.push(
+      warning('outside-trusted-range', `${model.name} (${entry.designation}) is trusted from ${lo} to ${hi} V on the plate; ${outside.length} conducting section${outside.length === 1 ? '' : 's'} here run${outside.length === 1 ? 's' : ''} at ${range}`, model.span, [
+        'fit the type to bench readings of your own tubes at these voltages before trusting the levels',
+      ]),
+    );
+  }
+  return out;
 }
 
 interface ResolvedHint {

@@ -53,6 +53,7 @@ export const DIAGNOSTIC_CODES = [
   'no-convergence',
   'hint-not-held',
   'state-undecided',
+  'outside-trusted-range',
   // JSON designs
   'json-syntax',
   'json-schema',
