@@ -26,6 +26,8 @@ export interface SolveOptions extends CompileOptions {
   start?: Float64Array;
   /** The design's stage graph, when the caller has it already. */
   graph?: StageGraph;
+  /** Newton iterations allowed per run (200); tests lower it to reach the non-convergence report. */
+  maxIterations?: number;
 }
 
 export interface TubeOperatingPoint {
@@ -145,7 +147,7 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
     gmin: GMIN_FLOOR,
     sourceScale: 1,
     maxStep: options.undamped ? Infinity : Math.min(20, Math.max(1, span / 10)),
-    maxIterations: 200,
+    maxIterations: options.maxIterations ?? 200,
   };
   const x = new Float64Array(c.n);
   if (options.start && options.start.length === c.n) x.set(options.start);

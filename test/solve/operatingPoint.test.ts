@@ -128,6 +128,15 @@ stage p { tube "6AU6"; screen bp; load 10 k to bp; input hi series 22 k pulldown
     expect(pressed.hints[0]?.held).toBe(false);
   });
 
+  it('reports a solve that does not converge, naming the nets that would not settle', () => {
+    const d = latch('6AU6', '33 k', '220 k', '220 k', 'screen bp;');
+    const op = solve(d, { maxIterations: 2 });
+    expect(op.converged).toBe(false);
+    const report = op.diagnostics.find((x) => x.code === 'no-convergence');
+    expect(report?.message).toMatch(/KCL residual .* A \(limit 1 nA\)/);
+    expect(report?.notes[0]).toMatch(/nets that would not settle: .*\b(q|nq)\b/);
+  });
+
   for (const file of demoDesigns()) {
     it(`solves ${file} in both states of every latch with a KCL residual under 1 nA`, () => {
       const files = netsFiles();
