@@ -128,6 +128,17 @@ stage p { tube "6AU6"; screen bp; load 10 k to bp; input hi series 22 k pulldown
     expect(pressed.hints[0]?.held).toBe(false);
   });
 
+  it('puts a diode through a resistor where Shockley’s law and the resistor agree', () => {
+    const d = design('drive V (top) 5 V\nresistor R (top, a) 1 k\ndiode D (a, gnd) { is = 2 nA, n = 1.9, rs = 0 }');
+    const op = solve(d);
+    const vd = v(op, 'a');
+    const amps = (5 - vd) / 1000;
+    expect(vd).toBeGreaterThan(0.4);
+    expect(vd).toBeLessThan(1);
+    // I = Is · (exp(V / (n·Vt)) − 1), Vt = kT/q at 300 K (W. Shockley, Bell Syst. Tech. J. 1949).
+    expect(amps).toBeCloseTo(2e-9 * (Math.exp(vd / (1.9 * 0.025852)) - 1), 9);
+  });
+
   it('reports a solve that does not converge, naming the nets that would not settle', () => {
     const d = latch('6AU6', '33 k', '220 k', '220 k', 'screen bp;');
     const op = solve(d, { maxIterations: 2 });
