@@ -45,3 +45,6 @@ export {
   type TubeOperatingPoint,
   type ResistorOperatingPoint,
 } from './solve/operatingPoint.js';
+
+export { unityGainPoints } from './analysis/unityGain.js';
+export { staticNoiseMargin, type ButterflyResult, type TransferCurve } from './analysis/staticNoiseMargin.js';
