@@ -48,3 +48,4 @@ export {
 
 export { unityGainPoints } from './analysis/unityGain.js';
 export { staticNoiseMargin, type ButterflyResult, type TransferCurve } from './analysis/staticNoiseMargin.js';
+export { sweepTransfer, type SweepOptions } from './analysis/transferCurve.js';
