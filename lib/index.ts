@@ -50,3 +50,4 @@ export { unityGainPoints } from './analysis/unityGain.js';
 export { staticNoiseMargin, type ButterflyResult, type TransferCurve } from './analysis/staticNoiseMargin.js';
 export { sweepTransfer, type SweepOptions } from './analysis/transferCurve.js';
 export { applyParameters, corners, designParameters, MAX_CORNER_PARAMETERS, type DesignParameter } from './analysis/parameters.js';
+export { triggerMargin, type TriggerAnswer, type TriggerQuestion } from './analysis/switching.js';
