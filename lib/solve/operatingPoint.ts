@@ -22,7 +22,11 @@ export interface SolveOptions extends CompileOptions {
   linear?: LinearSystemFactory;
   /** A solved system of the same topology to reuse (its factorisation's symbolic work). */
   system?: DcSystem;
-  /** A previous solution to start from instead of the devices-off guess. */
+  /**
+   * A previous solution to start from instead of the devices-off guess. It already holds
+   * the latches' states, so with a start and no hints nothing is pinned: each latch stays
+   * in the state it starts in, if that state still exists.
+   */
   start?: Float64Array;
   /** The design's stage graph, when the caller has it already. */
   graph?: StageGraph;
@@ -140,7 +144,8 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
   }
   const c = system.circuit;
   const graph = options.graph ?? buildStageGraph(design);
-  const hints = collectHints(design, graph, options.hints ?? [], c, diagnostics);
+  const warm = options.start !== undefined && options.start.length === c.n && options.hints === undefined;
+  const hints = warm ? [] : collectHints(design, graph, options.hints ?? [], c, diagnostics);
   const rails = [0, ...design.rails.map((r) => r.volts)];
   const span = Math.max(...rails) - Math.min(...rails);
   const base: NewtonSettings = {
