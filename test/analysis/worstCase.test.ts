@@ -20,29 +20,15 @@ function exhaustive(d: Design, net: string, hints: StateHint[]): { min: number; 
   return { min, max };
 }
 
+const latchText = (tube: string, tol: string, load: string, divider: string, screen: string) => `rail bp = 24 V tol 5 %
+rail bias = -12 V tol 5 %
+defaults { tube = "${tube}", tolerance = ${tol} }
+stage q  { load ${load} to bp; ${screen} input nq series ${divider} pulldown ${divider} to bias }
+stage nq { load ${load} to bp; ${screen} input q  series ${divider} pulldown ${divider} to bias }`;
+
 const DESIGNS: [string, string, StateHint[], string, string][] = [
-  [
-    'a pentode latch (10 parameters)',
-    `rail bp = 24 V tol 5 %
-rail bias = -12 V tol 5 %
-defaults { tube = "6AU6", tolerance = 5 % }
-stage q  { load 33 k to bp; screen bp; input nq series 220 k pulldown 220 k to bias }
-stage nq { load 33 k to bp; screen bp; input q  series 220 k pulldown 220 k to bias }`,
-    [{ net: 'q', high: true }],
-    'q',
-    'nq',
-  ],
-  [
-    'a twin-triode latch (10 parameters)',
-    `rail bp = 24 V tol 5 %
-rail bias = -12 V tol 5 %
-defaults { tube = "12AU7", tolerance = 10 % }
-stage q  { load 100 k to bp; input nq series 330 k pulldown 330 k to bias }
-stage nq { load 100 k to bp; input q  series 330 k pulldown 330 k to bias }`,
-    [{ net: 'q', high: false }],
-    'nq',
-    'q',
-  ],
+  ['a pentode latch (10 parameters)', latchText('6AU6', '5 %', '33 k', '220 k', 'screen bp;'), [{ net: 'q', high: true }], 'q', 'nq'],
+  ['a twin-triode latch (10 parameters)', latchText('12AU7', '10 %', '100 k', '330 k', ''), [{ net: 'q', high: false }], 'nq', 'q'],
   [
     'two inverters in a chain (9 parameters)',
     `rail bp = 24 V tol 5 %
