@@ -1,6 +1,6 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { DIAGNOSTIC_CODES, designFromJson, designToJson, loadDesign, renderDiagnostics } from '../../lib/index.js';
+import { DIAGNOSTIC_CODES, designFromJson, designToJson, loadDesign, renderDiagnostics, solveOperatingPoint } from '../../lib/index.js';
 import { memoryLoader, netsFiles } from '../helpers.js';
 
 const FILES = netsFiles();
@@ -92,4 +92,25 @@ describe('fuzzing the front end with mutants of the nets/ files', () => {
       { numRuns: 2000, seed: 99 },
     );
   });
+
+  it('solves every mutant that loads without errors, never throwing, within bounded time', () => {
+    let solved = 0;
+    fc.assert(
+      fc.property(fc.nat({ max: NAMES.length - 1 }), fc.array(mutation, { minLength: 1, maxLength: 2 }), (which, mutations) => {
+        const name = NAMES[which] as string;
+        const files = { ...FILES, [name]: mutations.reduce(apply, FILES[name] as string) };
+        const main = name.includes('/lib/') ? 'nets/nor-adder.tube' : name;
+        const r = loadDesign(main, files[main] as string, { loader: memoryLoader(files) });
+        if (!r.ok || !r.design || r.design.parts.length > 2000) return;
+        const start = performance.now();
+        const op = solveOperatingPoint(r.design);
+        expect(performance.now() - start).toBeLessThan(20_000);
+        for (const d of 'nodes' in op ? op.diagnostics : op.diagnostics) expect(KNOWN.has(d.code)).toBe(true);
+        solved++;
+      }),
+      { numRuns: 300, seed: 777 },
+    );
+    expect(solved).toBeGreaterThan(20);
+  });
 });
+
