@@ -51,4 +51,4 @@ export { staticNoiseMargin, type ButterflyResult, type TransferCurve } from './a
 export { sweepTransfer, type SweepOptions } from './analysis/transferCurve.js';
 export { applyParameters, corners, designParameters, MAX_CORNER_PARAMETERS, type DesignParameter } from './analysis/parameters.js';
 export { triggerMargin, type TriggerAnswer, type TriggerQuestion } from './analysis/switching.js';
-export { worstCaseVoltage, type WorstCaseAnswer, type WorstCaseQuestion } from './analysis/worstCase.js';
+export { adjointSlopes, worstCaseVoltage, type WorstCaseAnswer, type WorstCaseQuestion } from './analysis/worstCase.js';

@@ -29,8 +29,8 @@ export interface WorstCaseAnswer {
 
 /**
  * Worst case by vertex (extreme value analysis): the net's sensitivity to every parameter
- * is linearised at the nominal point (a forward difference over 1 % of each band, solved
- * from the nominal state), each parameter is put at the end of its band that moves the
+ * is linearised at the nominal point (adjoint sensitivities: one transposed solve), each
+ * parameter is put at the end of its band that moves the
  * net the wrong way, and the circuit is solved exactly there, starting from the nominal
  * state so the latches keep theirs. The sensitivities are then taken again at the vertex,
  * and any parameter whose best end has changed is moved and the vertex solved again, up
@@ -53,8 +53,12 @@ export function worstCaseVoltage(design: Design, q: WorstCaseQuestion): WorstCas
   // Every latch (hinted or started by the tool) must read as it did at the nominal point.
   const stillInState = (op: OperatingPoint) => nominalOp.hints.every((h) => op.nodes.get(h.net)! > logicThreshold(design, h.net) === h.high);
   const sign = q.worst === 'min' ? -1 : 1;
-  const slopes = (values: Map<string, number>, at: OperatingPoint, base: number) =>
-    q.parameters.map((p) => {
+  // Linearised sensitivities by the adjoint method (one transposed solve for all
+  // parameters); a forward difference where the adjoint is not available.
+  const slopes = (values: Map<string, number>, at: OperatingPoint, base: number) => {
+    const adjoint = adjointSlopes(at, q.net, q.parameters);
+    if (adjoint) return adjoint;
+    return q.parameters.map((p) => {
       const h = (p.high - p.low) * 0.01;
       const moved = new Map(values);
       const now = values.get(p.id) ?? p.nominal;
@@ -63,6 +67,7 @@ export function worstCaseVoltage(design: Design, q: WorstCaseQuestion): WorstCas
       const op = solveAt(moved, at);
       return op ? (op.nodes.get(q.net)! - base) / step : 0;
     });
+  };
   const nominalValues = new Map<string, number>();
   const s0 = slopes(nominalValues, nominalOp, nominal);
   const effects = q.parameters.map((p, i) => ({ id: p.id, volts: s0[i]! * (p.high - p.low) })).sort((a, b) => Math.abs(b.volts) - Math.abs(a.volts));
@@ -87,4 +92,34 @@ export function worstCaseVoltage(design: Design, q: WorstCaseQuestion): WorstCas
   }
   const holds = op !== undefined && stillInState(op);
   return { nominal, worst: holds ? op!.nodes.get(q.net)! : undefined, vertex, effects, stateHolds: holds, corrections };
+}
+
+/** dV(net)/dp for every parameter at the solution `op`, by the adjoint method; undefined where it does not apply. */
+export function adjointSlopes(op: OperatingPoint, net: string, parameters: readonly DesignParameter[]): number[] | undefined {
+  const c = op.system.circuit;
+  const node = c.terminalOf.get(net);
+  if (node === undefined || node < 0) return undefined;
+  const sens = op.system.sensitivities(op.x, node, { gmin: 1e-12, sourceScale: 1, maxStep: Infinity, maxIterations: 1 });
+  if (!sens) return undefined;
+  const conductanceOf = new Map<string, number>();
+  for (let e = 0; e < c.gA.length; e++) if (c.gPart[e]! >= 0) conductanceOf.set(c.design.parts[c.gPart[e]!]!.name, e);
+  const fixedOf = new Map<string, number>();
+  c.fixedNames.forEach((name, f) => fixedOf.set(name, f));
+  const tubeOf = new Map<string, number>();
+  for (let t = 0; t < c.tA.length; t++) tubeOf.set(c.design.parts[c.tubePart[t]!]!.name, t);
+  const driveNode = new Map(c.design.parts.filter((p) => p.type === 'drive').map((p) => [p.name, p.node]));
+  return parameters.map((p) => {
+    switch (p.kind) {
+      case 'resistor':
+        return sens.resistors[conductanceOf.get(p.target) ?? -1] ?? 0;
+      case 'perveance':
+        return sens.perveance[tubeOf.get(p.target) ?? -1] ?? 0;
+      case 'rail':
+      case 'drive': {
+        const net = p.kind === 'rail' ? p.target : driveNode.get(p.target)!;
+        const f = fixedOf.get(net) ?? fixedOf.get(`${net}:source`);
+        return f === undefined ? 0 : sens.fixed[f]!;
+      }
+    }
+  });
 }

@@ -296,6 +296,64 @@ export class DcSystem {
     return false;
   }
 
+  /**
+   * Adjoint sensitivities of the voltage of unknown `node` at the solution `x`: with
+   * Jᵀ·λ = e_node, dV/dp = −λᵀ·∂F/∂p for every parameter p (Director and Rohrer, "The
+   * generalized adjoint network and network sensitivities", IEEE Trans. Circuit Theory,
+   * 1969). One transposed solve serves every parameter. Derivatives returned:
+   * - `resistors[e]`: dV/dR (V/Ω) for conductance e (those from resistors; others 0);
+   * - `fixed[f]`: dV/dV_f for fixed voltage f (rails, drives);
+   * - `perveance[t]`: dV/dP for section t's perveance factor.
+   * Returns undefined when the Jacobian cannot be factored.
+   */
+  sensitivities(x: Float64Array, node: number, s: NewtonSettings): { resistors: Float64Array; fixed: Float64Array; perveance: Float64Array } | undefined {
+    const c = this.circuit;
+    this.assemble(x, s);
+    const f0 = Float64Array.from(this.f);
+    if (!this.lu.factor() || !this.lu.solveTransposed) return undefined;
+    const e = new Float64Array(c.n);
+    e[node] = 1;
+    const lambda = new Float64Array(c.n);
+    this.lu.solveTransposed(e, lambda);
+    const fixedVolts = c.fixedVolts;
+    const volt = (t: number) => (t >= 0 ? x[t]! : fixedVolts[-1 - t]! * s.sourceScale);
+    const lam = (t: number) => (t >= 0 ? lambda[t]! : 0);
+    const resistors = new Float64Array(c.gA.length);
+    for (let k = 0; k < c.gA.length; k++) {
+      if (c.gPart[k]! < 0) continue;
+      const a = c.gA[k]!;
+      const b = c.gB[k]!;
+      const g = c.gS[k]!;
+      // i = g·(va − vb) leaves a, enters b; ∂i/∂R = −i·g.
+      const dI = -g * g * (volt(a) - volt(b));
+      resistors[k] = -(lam(a) - lam(b)) * dI;
+    }
+    const perveance = new Float64Array(c.tA.length);
+    const r = this.eval;
+    for (let t = 0; t < c.tA.length; t++) {
+      const vk = volt(c.tK[t]!);
+      const screen = c.hasScreen[t] === 1;
+      evaluateTube(c.tubeParams, t * P.size, volt(c.tG[t]!) - vk, volt(c.tA[t]!) - vk, screen ? volt(c.tS[t]!) - vk : 0, r, 0);
+      // Plate and screen currents are proportional to the perveance factor; grid current is not.
+      const pv = c.tubeParams[t * P.size + P.perveance]!;
+      const ia = r[R.ia]! / pv;
+      const is = screen ? r[R.is]! / pv : 0;
+      perveance[t] = -(lam(c.tA[t]!) * ia + (screen ? lam(c.tS[t]!) * is : 0) - lam(c.tK[t]!) * (ia + is));
+    }
+    // Fixed voltages: ∂F/∂V_f by a difference of the residual alone (no solve), exact for the linear elements.
+    const fixed = new Float64Array(c.fixedVolts.length);
+    for (let k = 0; k < fixed.length; k++) {
+      const h = 1e-6 * Math.max(1, Math.abs(fixedVolts[k]!));
+      fixedVolts[k] = fixedVolts[k]! + h;
+      this.assemble(x, s);
+      fixedVolts[k] = fixedVolts[k]! - h;
+      let dot = 0;
+      for (let i = 0; i < c.n; i++) dot += lambda[i]! * (this.f[i]! - f0[i]!);
+      fixed[k] = -dot / h;
+    }
+    return { resistors, fixed, perveance };
+  }
+
   /** One Newton iteration's linear algebra at `x` (assemble, factor, solve) without moving `x`: for benchmarks. */
   linearise(x: Float64Array, s: NewtonSettings): boolean {
     this.assemble(x, s);

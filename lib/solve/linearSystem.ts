@@ -9,6 +9,8 @@ export interface LinearSystem {
   clear(): void;
   factor(): boolean;
   solve(b: Float64Array, x: Float64Array): void;
+  /** Solves Aᵀ·x = b, for adjoint sensitivities; optional for reference solvers. */
+  solveTransposed?(b: Float64Array, x: Float64Array): void;
 }
 
 /** Builds a linear system for an n×n pattern given as parallel row and column arrays. */

@@ -198,6 +198,31 @@ export class SparseLu {
     return true;
   }
 
+  /**
+   * Solves Aᵀ·x = b with the last factorisation (for adjoint sensitivities): Uᵀ forward,
+   * then Lᵀ backward. `b` and `x` are in original indices and may be the same array.
+   */
+  solveTransposed(b: Float64Array, x: Float64Array): void {
+    const n = this.n;
+    const y = this.work;
+    const v = this.values;
+    const perm = this.perm;
+    const rStart = this.rStart;
+    const rIndex = this.rIndex;
+    for (let k = 0; k < n; k++) y[k] = b[perm[k]!]!;
+    for (let k = 0; k < n; k++) {
+      const z = y[k]! / v[this.diag[k]!]!;
+      y[k] = z;
+      if (z !== 0) for (let t = rStart[k]!; t < rStart[k + 1]!; t++) y[rIndex[t]!]! -= v[this.uSlot[t]!]! * z;
+    }
+    for (let k = n - 1; k >= 0; k--) {
+      let s = y[k]!;
+      for (let t = rStart[k]!; t < rStart[k + 1]!; t++) s -= v[this.lSlot[t]!]! * y[rIndex[t]!]!;
+      y[k] = s;
+    }
+    for (let k = 0; k < n; k++) x[perm[k]!] = y[k]!;
+  }
+
   /** Solves A·x = b with the last factorisation; `b` and `x` are in original indices and may be the same array. */
   solve(b: Float64Array, x: Float64Array): void {
     const n = this.n;
