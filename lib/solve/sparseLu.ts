@@ -198,33 +198,25 @@ export class SparseLu {
     return true;
   }
 
+  /** Solves A·x = b with the last factorisation; `b` and `x` are in original indices and may be the same array. */
+  solve(b: Float64Array, x: Float64Array): void {
+    this.substitute(b, x, this.lSlot, this.uSlot, false);
+  }
+
   /**
    * Solves Aᵀ·x = b with the last factorisation (for adjoint sensitivities): Uᵀ forward,
    * then Lᵀ backward. `b` and `x` are in original indices and may be the same array.
    */
   solveTransposed(b: Float64Array, x: Float64Array): void {
-    const n = this.n;
-    const y = this.work;
-    const v = this.values;
-    const perm = this.perm;
-    const rStart = this.rStart;
-    const rIndex = this.rIndex;
-    for (let k = 0; k < n; k++) y[k] = b[perm[k]!]!;
-    for (let k = 0; k < n; k++) {
-      const z = y[k]! / v[this.diag[k]!]!;
-      y[k] = z;
-      if (z !== 0) for (let t = rStart[k]!; t < rStart[k + 1]!; t++) y[rIndex[t]!]! -= v[this.uSlot[t]!]! * z;
-    }
-    for (let k = n - 1; k >= 0; k--) {
-      let s = y[k]!;
-      for (let t = rStart[k]!; t < rStart[k + 1]!; t++) s -= v[this.lSlot[t]!]! * y[rIndex[t]!]!;
-      y[k] = s;
-    }
-    for (let k = 0; k < n; k++) x[perm[k]!] = y[k]!;
+    this.substitute(b, x, this.uSlot, this.lSlot, true);
   }
 
-  /** Solves A·x = b with the last factorisation; `b` and `x` are in original indices and may be the same array. */
-  solve(b: Float64Array, x: Float64Array): void {
+  /**
+   * Forward then backward substitution over the pivots' shared structure: L then U for A,
+   * Uᵀ then Lᵀ for Aᵀ. The diagonal (U's) divides in the forward pass for Aᵀ, in the
+   * backward pass for A.
+   */
+  private substitute(b: Float64Array, x: Float64Array, forward: Int32Array, backward: Int32Array, divideForward: boolean): void {
     const n = this.n;
     const y = this.work;
     const v = this.values;
@@ -233,14 +225,15 @@ export class SparseLu {
     const rIndex = this.rIndex;
     for (let k = 0; k < n; k++) y[k] = b[perm[k]!]!;
     for (let k = 0; k < n; k++) {
+      if (divideForward) y[k] = y[k]! / v[this.diag[k]!]!;
       const yk = y[k]!;
       if (yk === 0) continue;
-      for (let t = rStart[k]!; t < rStart[k + 1]!; t++) y[rIndex[t]!]! -= v[this.lSlot[t]!]! * yk;
+      for (let t = rStart[k]!; t < rStart[k + 1]!; t++) y[rIndex[t]!]! -= v[forward[t]!]! * yk;
     }
     for (let k = n - 1; k >= 0; k--) {
-      let s = y[k]!;
-      for (let t = rStart[k]!; t < rStart[k + 1]!; t++) s -= v[this.uSlot[t]!]! * y[rIndex[t]!]!;
-      y[k] = s / v[this.diag[k]!]!;
+      let sum = y[k]!;
+      for (let t = rStart[k]!; t < rStart[k + 1]!; t++) sum -= v[backward[t]!]! * y[rIndex[t]!]!;
+      y[k] = divideForward ? sum : sum / v[this.diag[k]!]!;
     }
     for (let k = 0; k < n; k++) x[perm[k]!] = y[k]!;
   }
