@@ -25,7 +25,8 @@ import type { TubeModel } from '../design/model.js';
  * piecewise-linear law, unsmoothed; Newton's step limiting copes with its corner).
  *
  * Variation per section: the plate and screen currents are multiplied by the perveance
- * factor (spread, ageing, low heater); mu by the mu factor; the grid offset (contact
+ * factor (spread, ageing) and the heater factor (low emission at a low heater voltage);
+ * mu by the mu factor; the grid offset (contact
  * potential) is added to Vgk for the plate and screen currents, not for grid conduction.
  */
 
@@ -80,8 +81,10 @@ export function sigmoid(z: number): number {
 
 /** How a section differs from its type's nominal. */
 export interface SectionVariation {
-  /** Multiplies plate (and screen) current: tube-to-tube spread, ageing, low heater emission. */
+  /** Multiplies plate (and screen) current: tube-to-tube spread and ageing. */
   perveance: number;
+  /** Emission at a low heater voltage, as one more factor on the plate (and screen) current (1 at nominal heater voltage). */
+  heater?: number;
   /** Multiplies mu. */
   mu: number;
   /** Added to Vgk for the plate current (contact potential), volts. */
@@ -99,7 +102,7 @@ export function packSection(model: TubeModel, variation: SectionVariation, param
   params[offset + P.mu] = model.mu * variation.mu;
   params[offset + P.rgi] = model.rgi;
   params[offset + P.vgamma] = model.vgamma;
-  params[offset + P.perveance] = variation.perveance;
+  params[offset + P.perveance] = variation.perveance * (variation.heater ?? 1);
   params[offset + P.gridOffset] = variation.gridOffset;
   if (model.kind === 'child-langmuir') {
     params[offset + P.k] = model.k;

@@ -121,6 +121,7 @@ describe('tube equations', () => {
     const v = { vgk: -4, vak: 150 };
     const nominal = tubeCurrents(m, v).plate;
     expect(tubeCurrents(m, v, { perveance: 0.7, mu: 1, gridOffset: 0, cathodeOhms: 0 }).plate).toBeCloseTo(0.7 * nominal, 12);
+    expect(tubeCurrents(m, v, { perveance: 0.8, heater: 0.9, mu: 1, gridOffset: 0, cathodeOhms: 0 }).plate).toBeCloseTo(0.72 * nominal, 12);
     expect(tubeCurrents(m, v, { perveance: 1, mu: 1, gridOffset: 0.3, cathodeOhms: 0 }).plate).toBeCloseTo(tubeCurrents(m, { vgk: -3.7, vak: 150 }).plate, 12);
     // A larger mu makes the plate voltage count for less against the grid: less current at the same voltages.
     expect(tubeCurrents(m, v, { perveance: 1, mu: 1.2, gridOffset: 0, cathodeOhms: 0 }).plate).toBeLessThan(nominal);
