@@ -12,9 +12,10 @@ export interface GlobalOptions {
 
 /**
  * Reads and expands the design in `file` for a command, printing its diagnostics to stderr.
- * Returns the design, or undefined when it has errors (the command then exits with 2).
+ * Returns the design and the texts read (to render later diagnostics), or undefined when it
+ * has errors (the command then exits with 2).
  */
-export function loadForCommand(file: string, io: CliIo, options: GlobalOptions): Design | undefined {
+export function loadForCommand(file: string, io: CliIo, options: GlobalOptions): { design: Design; sources: Map<string, string> } | undefined {
   const chalk = chalkFor(io, 'stderr');
   let text: string;
   try {
@@ -25,10 +26,11 @@ export function loadForCommand(file: string, io: CliIo, options: GlobalOptions):
   }
   const loaded = loadDesign(file, text, { loader: fileLoader(io), checkModel: options.checkModel ?? false });
   report(loaded.diagnostics, loaded.sources, io);
-  return loaded.ok ? loaded.design : undefined;
+  return loaded.ok && loaded.design ? { design: loaded.design, sources: loaded.sources } : undefined;
 }
 
-function report(diagnostics: Diagnostic[], sources: Map<string, string>, io: CliIo): void {
+/** Prints diagnostics to stderr, rendered against the sources, with a closing line when any is an error. */
+export function report(diagnostics: Diagnostic[], sources: ReadonlyMap<string, string>, io: CliIo): void {
   if (diagnostics.length === 0) return;
   io.stderr(formatDiagnostics(diagnostics, sources, chalkFor(io, 'stderr')) + '\n');
   if (hasErrors(diagnostics)) io.stderr('the design has errors; fix them and run again\n');

@@ -13,7 +13,7 @@ rings) found in the stage graph. With --json, prints the flat design as
 tubemargin.design/1 JSON, which every command accepts in place of the text.`;
 
 export function runShow(file: string, options: GlobalOptions & { json?: boolean }, io: CliIo): number {
-  const design = loadForCommand(file, io, options);
+  const design = loadForCommand(file, io, options)?.design;
   if (!design) return EXIT.badInput;
   if (options.json) {
     io.stdout(JSON.stringify(designToJson(design), null, 2) + '\n');

@@ -1,7 +1,7 @@
-import { findPart, solveOperatingPoint, type StateHint } from '../lib/index.js';
+import { designNets, findPart, solveOperatingPoint, type StateHint } from '../lib/index.js';
 import { renderSolve, solveToJson } from '../lib/report/solveReport.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, type GlobalOptions } from './load.js';
+import { EXIT, loadForCommand, report, type GlobalOptions } from './load.js';
 import { chalkFor } from './style.js';
 
 export const SOLVE_SUMMARY = 'solve the DC operating point: every node, section and resistor';
@@ -32,22 +32,22 @@ export function runSolve(file: string, options: SolveCliOptions, io: CliIo): num
     if (!m) return bad(`--hint takes NET=1 or NET=0, not '${h}'`);
     hints.push({ net: m[1]!, high: m[2] === '1' });
   }
-  const design = loadForCommand(file, io, options);
-  if (!design) return EXIT.badInput;
+  const loaded = loadForCommand(file, io, options);
+  if (!loaded) return EXIT.badInput;
+  const { design, sources } = loaded;
   const close = new Set<string>();
   for (const name of options.close ?? []) {
     const found = findPart(design, name, 'switch');
     if ('diagnostic' in found) return bad(`${found.diagnostic.message}${found.diagnostic.notes.length ? `; ${found.diagnostic.notes.join('; ')}` : ''} [unknown-part]`);
     close.add(name);
   }
-  const nets = new Set<string>();
-  for (const p of design.parts) for (const v of Object.values(p)) if (typeof v === 'string') nets.add(v);
+  const nets = new Set(designNets(design));
   for (const h of hints) {
     if (!nets.has(h.net)) return bad(`--hint names unknown net '${h.net}' [unknown-net]`);
   }
   const op = solveOperatingPoint(design, { hints, close });
   if (!('nodes' in op)) {
-    for (const d of op.diagnostics) io.stderr(`${chalk.red.bold('error')}: ${d.message} [${d.code}]\n`);
+    report(op.diagnostics, sources, io);
     return EXIT.badInput;
   }
   if (options.json) io.stdout(JSON.stringify(solveToJson(design, op), null, 2) + '\n');

@@ -1,6 +1,5 @@
 import type { Design } from '../design/model.js';
-import { buildStageGraph } from '../graph/stageGraph.js';
-import { solveOperatingPoint } from '../solve/operatingPoint.js';
+import { HeldNet } from './heldNet.js';
 
 export interface TriggerQuestion {
   /** The latch's two nets. */
@@ -35,13 +34,10 @@ export interface TriggerAnswer {
  * the difference.
  */
 export function triggerMargin(design: Design, q: TriggerQuestion): TriggerAnswer {
-  const held = withDrive(design, q.input, q.quiet);
-  const graph = buildStageGraph(held);
+  const held = new HeldNet(design, q.input);
   const oldStateHolds = (level: number): boolean => {
-    const d = withDrive(design, q.input, level);
-    const op = solveOperatingPoint(d, { graph, hints: [{ net: q.leaves, high: true }] });
-    if (!('nodes' in op)) return true;
-    return op.hints[0]!.held;
+    const op = held.solveAt(level, { hints: [{ net: q.leaves, high: true }] });
+    return op === undefined || op.hints[0]!.held;
   };
   if (oldStateHolds(q.asserted)) return { switches: false, threshold: undefined, triggerMargin: undefined };
   let holds = q.quiet;
@@ -54,9 +50,4 @@ export function triggerMargin(design: Design, q: TriggerQuestion): TriggerAnswer
   }
   const threshold = (holds + gone) / 2;
   return { switches: true, threshold, triggerMargin: Math.sign(q.asserted - q.quiet) * (q.asserted - threshold) };
-}
-
-function withDrive(design: Design, net: string, volts: number): Design {
-  const parts = design.parts.filter((p) => !(p.type === 'drive' && p.node === net));
-  return { ...design, parts: [...parts, { type: 'drive', name: `trigger:${net}`, node: net, volts, tol: 0, sourceOhms: 0 }] };
 }

@@ -1,6 +1,5 @@
 import type { Design } from '../design/model.js';
-import { buildStageGraph } from '../graph/stageGraph.js';
-import { solveOperatingPoint, type OperatingPoint } from '../solve/operatingPoint.js';
+import { HeldNet } from './heldNet.js';
 import type { TransferCurve } from './staticNoiseMargin.js';
 
 export interface SweepOptions {
@@ -26,25 +25,18 @@ export interface SweepOptions {
  * stage, high while `q` is low and low once `q` is high.
  */
 export function sweepTransfer(design: Design, sweep: SweepOptions): TransferCurve | undefined {
-  // The stiff source takes whatever the net's own sections and load would give it; they stay
-  // in place, so their grids still load (and clamp) the nets that drive them.
-  const cut: Design = { ...design, parts: [...design.parts, { type: 'drive', name: `sweep:${sweep.input}`, node: sweep.input, volts: sweep.from, tol: 0, sourceOhms: 0 }] };
-  const graph = buildStageGraph(cut);
+  const held = new HeldNet(design, sweep.input);
   const vin: number[] = [];
   const vout: number[] = [];
-  const first = solveOperatingPoint(cut, { graph });
-  if (!('nodes' in first)) return undefined;
-  let previous: OperatingPoint = first;
-  const terminal = previous.system.circuit.terminalOf.get(sweep.input)!;
-  const fixed = -1 - terminal;
+  let start: Float64Array | undefined;
   for (let k = 0; k < sweep.points; k++) {
     const v = sweep.from + ((sweep.to - sweep.from) * k) / (sweep.points - 1);
-    previous.system.circuit.fixedVolts[fixed] = v;
-    const op = solveOperatingPoint(cut, { graph, system: previous.system, start: previous.x });
-    if (!('nodes' in op) || !op.converged) return undefined;
+    // After the first point each solve starts from the last, so no latch is re-pinned.
+    const op = held.solveAt(v, start ? { start } : {});
+    if (!op) return undefined;
     vin.push(v);
     vout.push(op.nodes.get(sweep.output)!);
-    previous = op;
+    start = op.x;
   }
   return { vin, vout };
 }

@@ -1,5 +1,6 @@
 import { GROUND, type Design, type TubeModel } from '../design/model.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
+import type { SourceSpan } from '../source/span.js';
 import { NOMINAL_VARIATION, P, packSection, type SectionVariation } from '../models/tubeEquations.js';
 
 /**
@@ -89,12 +90,12 @@ export function compileCircuit(design: Design, options: CompileOptions = {}): { 
   const fixedValues: number[] = [];
   const fixedOf = new Map<string, number>();
   const where = new Map<string, string>();
-  const fix = (net: string, volts: number, what: string): number | undefined => {
+  const fix = (net: string, volts: number, what: string, span?: SourceSpan): number | undefined => {
     const root = find(net);
     const have = fixedOf.get(root);
     if (have !== undefined) {
       if (fixedValues[have] !== volts) {
-        diagnostics.push(error('short-circuit', `short circuit: ${what} and ${where.get(root)} hold net '${net}' at different voltages`, undefined));
+        diagnostics.push(error('short-circuit', `short circuit: ${what} and ${where.get(root)} hold net '${net}' at different voltages`, span, ['a closed switch or a shared net joins them']));
         return undefined;
       }
       return have;
@@ -109,12 +110,12 @@ export function compileCircuit(design: Design, options: CompileOptions = {}): { 
   const railSources: { net: string; volts: number; ohms: number }[] = [];
   for (const r of design.rails) {
     if (r.sourceOhms > 0) railSources.push({ net: r.name, volts: r.volts, ohms: r.sourceOhms });
-    else fix(r.name, r.volts, `rail '${r.name}'`);
+    else fix(r.name, r.volts, `rail '${r.name}'`, r.span);
   }
   for (const p of design.parts) {
     if (p.type === 'drive') {
       if (p.sourceOhms > 0) railSources.push({ net: p.node, volts: p.volts, ohms: p.sourceOhms });
-      else fix(p.node, p.volts, `drive '${p.name}'`);
+      else fix(p.node, p.volts, `drive '${p.name}'`, p.span);
     }
   }
   if (diagnostics.length > 0) return { circuit: undefined, diagnostics };

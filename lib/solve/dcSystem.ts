@@ -387,13 +387,18 @@ export class DcSystem {
     return true;
   }
 
-  /** Largest KCL residual of the real circuit (no gmin, no pins, full sources) at `x`, and where. */
-  trueResidual(x: Float64Array): { amps: number; worst: number[] } {
+  /** Largest KCL residual of the real circuit (no gmin, no pins, full sources) at `x`; leaves the residuals in `f`. */
+  trueResidual(x: Float64Array): number {
     this.assemble(x, { gmin: 0, sourceScale: 1, maxStep: Infinity, maxIterations: 0 });
     const f = this.f;
     let amps = 0;
     for (let i = 0; i < f.length; i++) amps = Math.max(amps, Math.abs(f[i]!));
-    const worst = [...f.keys()].sort((a, b) => Math.abs(f[b]!) - Math.abs(f[a]!)).slice(0, 5);
-    return { amps, worst };
+    return amps;
+  }
+
+  /** The nodes with the largest residuals after `trueResidual`, largest first: for a non-convergence report. */
+  worstNodes(count: number): number[] {
+    const f = this.f;
+    return [...f.keys()].sort((a, b) => Math.abs(f[b]!) - Math.abs(f[a]!)).slice(0, count);
   }
 }

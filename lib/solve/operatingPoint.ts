@@ -193,11 +193,11 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
     converged = robust(base) && converged;
   } else converged = robust(base);
 
-  const residual = system.trueResidual(x);
-  if (!converged || residual.amps > RESIDUAL_LIMIT) {
-    const worst = residual.worst.filter((i) => Math.abs(system.f[i]!) > RESIDUAL_LIMIT).map((i) => c.nodeNames[i]!);
+  const residualAmps = system.trueResidual(x);
+  if (!converged || residualAmps > RESIDUAL_LIMIT) {
+    const worst = system.worstNodes(5).filter((i) => Math.abs(system.f[i]!) > RESIDUAL_LIMIT).map((i) => c.nodeNames[i]!);
     diagnostics.push(
-      error('no-convergence', `the operating point did not converge: KCL residual ${residual.amps.toExponential(2)} A (limit 1 nA)`, undefined, [
+      error('no-convergence', `the operating point did not converge: KCL residual ${residualAmps.toExponential(2)} A (limit 1 nA)`, undefined, [
         `nets that would not settle: ${worst.join(', ') || 'none above the limit; Newton stopped early'}`,
       ]),
     );
@@ -230,7 +230,7 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
   }
   const tubes = tubeReport(c, x);
   diagnostics.push(...trustedRangeWarnings(design, tubes));
-  return { converged, method, iterations, nodes, tubes, resistors: resistorReport(c, x), residualAmps: residual.amps, hints: outcomes, diagnostics, x, system };
+  return { converged, method, iterations, nodes, tubes, resistors: resistorReport(c, x), residualAmps, hints: outcomes, diagnostics, x, system };
 }
 
 /** A section counts as conducting, for the trusted-range check, above this plate current. */

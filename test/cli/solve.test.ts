@@ -65,6 +65,12 @@ describe('tubemargin solve', () => {
     expect(sw.err).toContain("did you mean 'SA'?");
   });
 
+  it('exits 2 on a short circuit, pointing at the rail or drive that causes it', async () => {
+    const r = await run(['solve', 'docs/examples/shorted-rails.tube']);
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/docs\/examples\/shorted-rails\.tube:\d+:1: error: short circuit/);
+  });
+
   it('carries the safety cautions for a design above 60 V', async () => {
     const r = await run(['solve', 'nets/crate-tally.tube', '--hint', 'on[0]=1']);
     expect(r.code).toBe(0);

@@ -16,7 +16,7 @@ async function run(args: string[]): Promise<{ out: string; err: string }> {
 }
 
 /** The fenced blocks of the README that show a command and what it printed. */
-function transcripts(): { command: string; shown: string[] }[] {
+function quotedRuns(): { command: string; shown: string[] }[] {
   const blocks = [...README.matchAll(/```\n\$ tubemargin ([^\n]+)\n([\s\S]*?)```/g)];
   return blocks.map((m) => ({ command: m[1] as string, shown: (m[2] as string).split('\n').filter((l) => l !== '' && l !== '…') }));
 }
@@ -29,7 +29,7 @@ describe('the README', () => {
   });
 
   it('shows, line for line, what each quoted command prints', async () => {
-    const ts = transcripts().filter((t) => !t.command.includes('>'));
+    const ts = quotedRuns().filter((t) => !t.command.includes('>'));
     expect(ts.length).toBeGreaterThanOrEqual(2);
     for (const t of ts) {
       const r = await run(t.command.split(' '));

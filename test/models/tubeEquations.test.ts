@@ -93,6 +93,7 @@ describe('tube equations', () => {
     );
   });
 
+  // The grid-conduction law of the project's design notes, with rgi of the order published for small tubes (from memory).
   it('conduct at the grid by the piecewise-linear law (Vgk − vgamma)/rgi', () => {
     const m = { ...model('12AU7'), rgi: 2000, vgamma: 0.2 };
     expect(tubeCurrents(m, { vgk: -1, vak: 100 }).grid).toBe(0);
@@ -100,6 +101,7 @@ describe('tube equations', () => {
     expect(tubeCurrents(m, { vgk: 1.2, vak: 100 }).grid).toBeCloseTo(1 / 2000, 15);
   });
 
+  // Current division: K. R. Spangenberg, "Vacuum Tubes", 1948 (from memory).
   it('send a bottomed pentode’s missing plate current to its screen, so the cathode current holds (current division)', () => {
     const m = model('6AU6');
     const far = tubeCurrents(m, { vgk: 0, vak: 1e6, vg2k: 24 });
