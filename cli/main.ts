@@ -1,6 +1,7 @@
 import { Command, CommanderError } from 'commander';
 import { processIo, type CliIo } from './io.js';
 import { EXIT } from './load.js';
+import { CHECK_HELP, CHECK_SUMMARY, runCheck, type CheckCliOptions } from './check.js';
 import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
 import { SOLVE_HELP, SOLVE_SUMMARY, runSolve, type SolveCliOptions } from './solve.js';
 import { TUBES_SUMMARY, runTubes } from './tubes.js';
@@ -12,6 +13,8 @@ Examples:
   tubemargin show design.json                    JSON designs are read wherever text is
   tubemargin solve nets/nor-adder.tube           the DC operating point
   tubemargin solve nets/irrigation-sequencer.tube --hint bed[1]/on=1 --close STOP
+  tubemargin check nets/nor-adder.tube           worst-case margins: pass or fail
+  tubemargin check nets/crate-tally.tube --age end-of-life --margin 10
   tubemargin tubes                               the tube library
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
@@ -55,6 +58,18 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--json', 'print the operating point as tubemargin.solve/1 JSON')
     .action((file: string, opts: SolveCliOptions) => {
       code = runSolve(file, { ...program.opts(), ...opts }, io);
+    });
+
+  program
+    .command('check')
+    .summary(CHECK_SUMMARY)
+    .description(CHECK_SUMMARY + '\n' + CHECK_HELP)
+    .argument('<file>', 'design file (.tube text or .json)')
+    .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
+    .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
+    .option('--json', 'print the report as tubemargin.report/1 JSON')
+    .action((file: string, opts: CheckCliOptions) => {
+      code = runCheck(file, { ...program.opts(), ...opts }, io);
     });
 
   program

@@ -1,4 +1,5 @@
 import type { Design } from '../design/model.js';
+import type { SectionVariation } from '../models/tubeEquations.js';
 import { buildStageGraph, type StageGraph } from '../graph/stageGraph.js';
 import { compileCircuit } from '../solve/circuit.js';
 import { DcSystem } from '../solve/dcSystem.js';
@@ -16,11 +17,11 @@ export class HeldNet {
   private readonly system: DcSystem | undefined;
   private readonly fixed: number;
 
-  constructor(design: Design, readonly net: string) {
+  constructor(design: Design, readonly net: string, variation?: ReadonlyMap<string, SectionVariation>) {
     const parts = design.parts.filter((p) => !(p.type === 'drive' && p.node === net));
     this.design = { ...design, parts: [...parts, { type: 'drive', name: `held:${net}`, node: net, volts: 0, tol: 0, sourceOhms: 0 }] };
     this.graph = buildStageGraph(this.design);
-    const circuit = compileCircuit(this.design).circuit;
+    const circuit = compileCircuit(this.design, { variation }).circuit;
     this.system = circuit && new DcSystem(circuit);
     this.fixed = circuit ? -1 - circuit.terminalOf.get(net)! : -1;
   }

@@ -1,4 +1,6 @@
 import type { Design } from '../design/model.js';
+import type { SectionVariation } from '../models/tubeEquations.js';
+import { logicThreshold, type OperatingPoint } from '../solve/operatingPoint.js';
 import { HeldNet } from './heldNet.js';
 
 export interface TriggerQuestion {
@@ -22,32 +24,53 @@ export interface TriggerAnswer {
   triggerMargin: number | undefined;
 }
 
+/** Steps of the input's rise from its quiet to its asserted level. */
+const RISE_STEPS = 48;
+
 /**
  * Does a latch switch when its set or reset input is asserted? The input net is held by a
- * stiff source at a level; the latch starts in the state it must leave (`leaves` high) and
- * is released. If that state still holds, the input was too weak. Bisection between the
- * quiet and the asserted level finds the level at which the old state stops existing: the
- * trigger threshold, and with it the trigger margin, the asserted level's excess over it.
+ * stiff source; the latch is put in the state it must leave (`leaves` high) at the quiet
+ * level, and the input is then raised step by step towards the asserted level, each solve
+ * starting from the last with nothing pinned, so the latch stays on the old state's branch
+ * for as long as that state exists, as it would while the input rises slowly. Where the
+ * branch ends (the old state reads low, or Newton finds no solution near it) the level is
+ * refined by bisection, each probe again continued from the last level that held: the
+ * trigger threshold; the trigger margin is the asserted level's excess over it. If the
+ * old state survives to the asserted level, the input is too weak.
+ *
+ * Continuation rather than a fresh pinned start at each level: near the threshold a
+ * pinned start can fail to converge on a state that barely exists, which would be
+ * mistaken for a state that holds.
  *
  * Example: a pentode latch whose set input is a third section on one side switches when
  * the set line rises past a few volts; with the set line asserted at 24 V the margin is
  * the difference.
  */
-export function triggerMargin(design: Design, q: TriggerQuestion): TriggerAnswer {
-  const held = new HeldNet(design, q.input);
-  const oldStateHolds = (level: number): boolean => {
-    const op = held.solveAt(level, { hints: [{ net: q.leaves, high: true }] });
-    return op === undefined || op.hints[0]!.held;
-  };
-  if (oldStateHolds(q.asserted)) return { switches: false, threshold: undefined, triggerMargin: undefined };
+export function triggerMargin(design: Design, q: TriggerQuestion, variation?: ReadonlyMap<string, SectionVariation>): TriggerAnswer {
+  const held = new HeldNet(design, q.input, variation);
+  const old = (op: OperatingPoint | undefined) => op !== undefined && op.nodes.get(q.leaves)! > logicThreshold(design, q.leaves);
+  const start = held.solveAt(q.quiet, { hints: [{ net: q.leaves, high: true }] });
+  if (!old(start)) return { switches: true, threshold: q.quiet, triggerMargin: Math.abs(q.asserted - q.quiet) };
   let holds = q.quiet;
-  let gone = q.asserted;
-  if (!oldStateHolds(holds)) return { switches: true, threshold: q.quiet, triggerMargin: Math.abs(q.asserted - q.quiet) };
-  while (Math.abs(gone - holds) > 1e-3) {
-    const mid = (holds + gone) / 2;
-    if (oldStateHolds(mid)) holds = mid;
-    else gone = mid;
+  let last = start!;
+  for (let k = 1; k <= RISE_STEPS; k++) {
+    const level = q.quiet + ((q.asserted - q.quiet) * k) / RISE_STEPS;
+    const op = held.solveAt(level, { start: last.x });
+    if (!old(op)) {
+      let gone = level;
+      while (Math.abs(gone - holds) > 1e-3) {
+        const mid = (holds + gone) / 2;
+        const probe = held.solveAt(mid, { start: last.x });
+        if (old(probe)) {
+          holds = mid;
+          last = probe!;
+        } else gone = mid;
+      }
+      const threshold = (holds + gone) / 2;
+      return { switches: true, threshold, triggerMargin: Math.sign(q.asserted - q.quiet) * (q.asserted - threshold) };
+    }
+    holds = level;
+    last = op!;
   }
-  const threshold = (holds + gone) / 2;
-  return { switches: true, threshold, triggerMargin: Math.sign(q.asserted - q.quiet) * (q.asserted - threshold) };
+  return { switches: false, threshold: undefined, triggerMargin: undefined };
 }

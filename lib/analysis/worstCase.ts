@@ -2,6 +2,7 @@ import type { Design } from '../design/model.js';
 import { buildStageGraph } from '../graph/stageGraph.js';
 import { logicThreshold, solveOperatingPoint, type OperatingPoint, type StateHint } from '../solve/operatingPoint.js';
 import { applyParameters, type DesignParameter } from './parameters.js';
+import { searchVertex, type Probe } from './vertex.js';
 
 export interface WorstCaseQuestion {
   /** The net whose voltage is judged. */
@@ -44,54 +45,39 @@ export function worstCaseVoltage(design: Design, q: WorstCaseQuestion): WorstCas
   const graph = buildStageGraph(design);
   const nominalOp = solveOperatingPoint(design, { graph, hints: q.hints });
   if (!('nodes' in nominalOp) || !nominalOp.converged) return undefined;
-  const nominal = nominalOp.nodes.get(q.net)!;
-  const solveAt = (values: Map<string, number>, from: OperatingPoint): OperatingPoint | undefined => {
-    const varied = applyParameters(design, values);
-    const op = solveOperatingPoint(varied.design, { graph, variation: varied.variation, start: from.x });
-    return 'nodes' in op && op.converged ? op : undefined;
-  };
   // Every latch (hinted or started by the tool) must read as it did at the nominal point.
   const stillInState = (op: OperatingPoint) => nominalOp.hints.every((h) => op.nodes.get(h.net)! > logicThreshold(design, h.net) === h.high);
-  const sign = q.worst === 'min' ? -1 : 1;
-  // Linearised sensitivities by the adjoint method (one transposed solve for all
-  // parameters); a forward difference where the adjoint is not available.
-  const slopes = (values: Map<string, number>, at: OperatingPoint, base: number) => {
-    const adjoint = adjointSlopes(at, q.net, q.parameters);
-    if (adjoint) return adjoint;
-    return q.parameters.map((p) => {
-      const h = (p.high - p.low) * 0.01;
-      const moved = new Map(values);
-      const now = values.get(p.id) ?? p.nominal;
-      const step = now + h <= p.high ? h : -h;
-      moved.set(p.id, now + step);
-      const op = solveAt(moved, at);
-      return op ? (op.nodes.get(q.net)! - base) / step : 0;
-    });
+  const asMap = (values: Float64Array) => new Map(q.parameters.map((p, i) => [p.id, values[i]!]));
+  let last = nominalOp;
+  let lost = false;
+  const probe = (values: Float64Array): Probe | undefined => {
+    const varied = applyParameters(design, asMap(values));
+    const op = solveOperatingPoint(varied.design, { graph, variation: varied.variation, start: last.x });
+    if (!('nodes' in op) || !op.converged || !stillInState(op)) {
+      lost = true;
+      return undefined;
+    }
+    last = op;
+    const value = op.nodes.get(q.net)!;
+    // Adjoint sensitivities (one transposed solve for all parameters); forward differences where they do not apply.
+    const slopes =
+      adjointSlopes(op, q.net, q.parameters) ??
+      q.parameters.map((p, i) => {
+        const h = (p.high - p.low) * 0.01;
+        const moved = Float64Array.from(values);
+        moved[i] = values[i]! + h <= p.high ? values[i]! + h : values[i]! - h;
+        const v = applyParameters(design, asMap(moved));
+        const o = solveOperatingPoint(v.design, { graph, variation: v.variation, start: op.x });
+        return 'nodes' in o && o.converged ? (o.nodes.get(q.net)! - value) / (moved[i]! - values[i]!) : 0;
+      });
+    return { value, slopes };
   };
-  const nominalValues = new Map<string, number>();
-  const s0 = slopes(nominalValues, nominalOp, nominal);
-  const effects = q.parameters.map((p, i) => ({ id: p.id, volts: s0[i]! * (p.high - p.low) })).sort((a, b) => Math.abs(b.volts) - Math.abs(a.volts));
-  const vertex = new Map<string, number>();
-  q.parameters.forEach((p, i) => vertex.set(p.id, sign * s0[i]! >= 0 ? p.high : p.low));
-  let op = solveAt(vertex, nominalOp);
-  let corrections = 0;
-  for (let round = 0; round < 3 && op && stillInState(op); round++) {
-    const here = op.nodes.get(q.net)!;
-    const s = slopes(vertex, op, here);
-    let changed = false;
-    q.parameters.forEach((p, i) => {
-      const want = sign * s[i]! >= 0 ? p.high : p.low;
-      if (want !== vertex.get(p.id)) {
-        vertex.set(p.id, want);
-        changed = true;
-        corrections++;
-      }
-    });
-    if (!changed) break;
-    op = solveAt(vertex, op);
-  }
-  const holds = op !== undefined && stillInState(op);
-  return { nominal, worst: holds ? op!.nodes.get(q.net)! : undefined, vertex, effects, stateHolds: holds, corrections };
+  const found = searchVertex(q.parameters, q.worst, probe);
+  if (!found) return undefined;
+  const effects = q.parameters.map((p, i) => ({ id: p.id, volts: found.effects[i]! })).sort((a, b) => Math.abs(b.volts) - Math.abs(a.volts));
+  const vertex = asMap(found.vertex);
+  const holds = found.worst !== undefined && !lost;
+  return { nominal: found.nominal, worst: holds ? found.worst : undefined, vertex, effects, stateHolds: holds, corrections: found.corrections };
 }
 
 /** dV(net)/dp for every parameter at the solution `op`, by the adjoint method; undefined where it does not apply. */

@@ -301,7 +301,8 @@ export class DcSystem {
    * Jᵀ·λ = e_node, dV/dp = −λᵀ·∂F/∂p for every parameter p (Director and Rohrer, "The
    * generalized adjoint network and network sensitivities", IEEE Trans. Circuit Theory,
    * 1969). One transposed solve serves every parameter. Derivatives returned:
-   * - `resistors[e]`: dV/dR (V/Ω) for conductance e (those from resistors; others 0);
+   * - `resistors[e]`: dV/dR (V/Ω) for conductance e (resistors, and the internal ones:
+   *   source resistances, cathode interface layers);
    * - `fixed[f]`: dV/dV_f for fixed voltage f (rails, drives);
    * - `perveance[t]`: dV/dP for section t's perveance factor.
    * Returns undefined when the Jacobian cannot be factored.
@@ -320,7 +321,6 @@ export class DcSystem {
     const lam = (t: number) => (t >= 0 ? lambda[t]! : 0);
     const resistors = new Float64Array(c.gA.length);
     for (let k = 0; k < c.gA.length; k++) {
-      if (c.gPart[k]! < 0) continue;
       const a = c.gA[k]!;
       const b = c.gB[k]!;
       const g = c.gS[k]!;

@@ -1,0 +1,244 @@
+import type { Design } from '../design/model.js';
+import { buildStageGraph, compareNames, type StageGraph } from '../graph/stageGraph.js';
+import { logicThreshold } from '../solve/operatingPoint.js';
+import { AGEING_SCENARIOS, type AgeingScenario } from './ageing.js';
+import { fanoutHeadroom, MAX_EXTRA_LOADS, standardLoad, type StandardLoad } from './fanoutHeadroom.js';
+import { cutoffMargin, driveMargin, type GridMargin } from './gridMargins.js';
+import { bandKey, LevelChain, type CaseResult, type ChainNet } from './levelChain.js';
+import { latchCheck, type LatchResult } from './latchCheck.js';
+import type { LocalParameter } from './localProblem.js';
+import { receiverThresholds } from './receiverThresholds.js';
+
+export interface CheckOptions {
+  /** The noise margin every net must keep (volts); the design's own setting when absent. */
+  requiredMargin?: number;
+  /** The ageing scenario; new tubes when absent. */
+  scenario?: AgeingScenario;
+  /** The stage graph, when the caller has it. */
+  graph?: StageGraph;
+}
+
+/** One parameter's part in making a level weak. */
+export interface Cause {
+  kind: LocalParameter['kind'];
+  /** The part, section, rail or net. */
+  target: string;
+  /** Which end of its band the worst vertex puts it at. */
+  end: 'low' | 'high';
+  /** Its value there (ohms, volts, or a factor). */
+  value: number;
+  /** How far its corner moves the level from nominal, linearised (volts; negative pulls it down). */
+  volts: number;
+}
+
+export interface ReceiverMargin {
+  section: string;
+  /** The receiving stage's output net. */
+  stage: string;
+  vilMin: number | undefined;
+  vihMax: number | undefined;
+}
+
+export interface NetCheck {
+  name: string;
+  kind: 'stage' | 'input';
+  /** What drives it: "2 sections", "input". */
+  driver: string;
+  fanout: number;
+  /** Levels in each state the net can take; absent for a state it never takes. */
+  high: { nominal: number; worst: number } | undefined;
+  low: { nominal: number; worst: number } | undefined;
+  /** Logic threshold: above it the net reads high. */
+  thresholdVolts: number;
+  /** NM_H = worst high − highest VIH of its receivers; NM_L = lowest VIL − worst low. */
+  margin: { high: number | undefined; low: number | undefined };
+  receivers: ReceiverMargin[];
+  cutoffMargin: GridMargin | undefined;
+  driveMargin: GridMargin | undefined;
+  /** More standard loads it can take before a margin drops below the required one. */
+  headroom: number | undefined;
+  status: 'pass' | 'fail' | 'unchecked';
+  reasons: string[];
+  /** The level that limits the net, and the parameters whose corners make it so, largest first. */
+  weakest: { what: 'high' | 'low' | 'cutoff'; causes: Cause[] } | undefined;
+  /** Worst slack against the requirement (volts): the smaller margin minus the required one, or the cutoff margin; sorts nets weakest first. */
+  slack: number;
+}
+
+export interface CheckResult {
+  title: string;
+  scenario: AgeingScenario;
+  requiredMargin: number;
+  verdict: 'pass' | 'fail';
+  /** Weakest first. */
+  nets: NetCheck[];
+  latches: LatchResult[];
+  standardLoad: StandardLoad | undefined;
+  /** The loop iteration settled (a loop that never settles is a failure of its nets). */
+  settled: boolean;
+  rounds: number;
+  localSolves: number;
+}
+
+/**
+ * `check`: chained worst-case levels, noise margins, grid-side margins, fan-out headroom
+ * and latch holding and switching for a whole design, weakest net first. The passes:
+ * 1. the chain (`LevelChain`): which states each net can take, its nominal and worst
+ *    levels, iterated around loops;
+ * 2. per net and receiver, the receiving stage's unity-gain thresholds in worst case, and
+ *    from them NM_H and NM_L; the drivers' cutoff and drive margins;
+ * 3. fan-out headroom in standard loads;
+ * 4. per latch, holding (butterfly SNM and levels) and switching (trigger margin);
+ * 5. the verdict, each failing net with its reasons and the parameters that make it weak.
+ *
+ * Example: the pentode latch with 33 kΩ loads and 220 kΩ / 220 kΩ dividers at 24 V /
+ * −12 V passes with several volts of margin; the same latch with its pull-downs to 0 V
+ * fails: its high and low levels collapse and neither OFF section is cut off.
+ */
+export function checkMargins(design: Design, options: CheckOptions = {}): CheckResult {
+  const scenario = options.scenario ?? AGEING_SCENARIOS[0]!;
+  const required = options.requiredMargin ?? design.settings.requiredMargin;
+  const graph = options.graph ?? buildStageGraph(design);
+  const chain = new LevelChain(design, graph, scenario);
+  chain.run();
+
+  // Thresholds of every receiving input, and the design-wide extremes for nets with none.
+  const thresholds = new Map<string, ReceiverMargin[]>();
+  for (const n of graph.nets) {
+    thresholds.set(
+      n.name,
+      n.receivers.flatMap((r) => {
+        const t = receiverThresholds(chain, n.name, r);
+        return t ? [{ section: r.section, stage: t.stage, vilMin: t.vilMin, vihMax: t.vihMax }] : [];
+      }),
+    );
+  }
+  const all = [...thresholds.values()].flat();
+  const vils = all.flatMap((t) => (t.vilMin === undefined ? [] : [t.vilMin]));
+  const vihs = all.flatMap((t) => (t.vihMax === undefined ? [] : [t.vihMax]));
+  const designWide = vils.length > 0 && vihs.length > 0 ? { vil: Math.min(...vils), vih: Math.max(...vihs) } : undefined;
+  const load = standardLoad(chain);
+
+  const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, required, load, designWide));
+  nets.sort((a, b) => (a.status === 'unchecked') !== (b.status === 'unchecked') ? (a.status === 'unchecked' ? 1 : -1) : a.slack - b.slack || compareNames(a.name, b.name));
+  const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => latchCheck(chain, l.nets as [string, string]));
+  const failed = nets.some((n) => n.status === 'fail') || latches.some((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined)) || !chain.settled;
+  return {
+    title: design.title,
+    scenario,
+    requiredMargin: required,
+    verdict: failed ? 'fail' : 'pass',
+    nets,
+    latches,
+    standardLoad: load,
+    settled: chain.settled,
+    rounds: chain.rounds,
+    localSolves: chain.solves,
+  };
+}
+
+function judgeNet(chain: LevelChain, name: string, fanout: number, receivers: ReceiverMargin[], required: number, load: StandardLoad | undefined, designWide: { vil: number; vih: number } | undefined): NetCheck {
+  const net = chain.nets.get(name)!;
+  const l = chain.levels.get(name)!;
+  const thresholdVolts = logicThreshold(chain.design, name);
+  const reasons: string[] = [];
+  const base = {
+    name,
+    kind: net.polarity === 'input' ? ('input' as const) : ('stage' as const),
+    driver: net.polarity === 'input' ? 'input' : `${net.drivers.length} section${net.drivers.length === 1 ? '' : 's'}`,
+    fanout,
+    thresholdVolts,
+    receivers,
+  };
+  if (net.polarity === 'mixed') {
+    return {
+      ...base,
+      high: undefined,
+      low: undefined,
+      margin: { high: undefined, low: undefined },
+      cutoffMargin: undefined,
+      driveMargin: undefined,
+      headroom: undefined,
+      status: 'unchecked',
+      reasons: ['driven both by plates and by cathodes: the chain does not judge mixed drivers'],
+      weakest: undefined,
+      slack: Infinity,
+    };
+  }
+  const high = l.canHigh ? { nominal: l.highNominal, worst: l.highWorst } : undefined;
+  const low = l.canLow ? { nominal: l.lowNominal, worst: l.lowWorst } : undefined;
+  const vihs = receivers.flatMap((r) => (r.vihMax === undefined ? [] : [r.vihMax]));
+  const vils = receivers.flatMap((r) => (r.vilMin === undefined ? [] : [r.vilMin]));
+  for (const r of receivers) if (r.vihMax === undefined || r.vilMin === undefined) reasons.push(`stage ${r.stage} has a gain below 1 at its input from ${name}: it cannot restore levels`);
+  const vihMax = vihs.length ? Math.max(...vihs) : undefined;
+  const vilMin = vils.length ? Math.min(...vils) : undefined;
+  const margin = {
+    high: high && vihMax !== undefined ? high.worst - vihMax : undefined,
+    low: low && vilMin !== undefined ? vilMin - low.worst : undefined,
+  };
+  const cutoff = net.polarity === 'input' ? undefined : cutoffMargin(chain, name);
+  const drive = net.polarity === 'input' ? undefined : driveMargin(chain, name);
+  const v = (x: number) => `${x.toFixed(2)} V`;
+  if (high && low && high.worst <= low.worst) reasons.push(`its high and low levels collapse (worst high ${v(high.worst)}, worst low ${v(low.worst)}): it cannot hold a state`);
+  if (high && high.worst <= thresholdVolts) reasons.push(`its worst high level ${v(high.worst)} does not reach the logic threshold ${v(thresholdVolts)}`);
+  if (low && low.worst >= thresholdVolts) reasons.push(`its worst low level ${v(low.worst)} is not below the logic threshold ${v(thresholdVolts)}: its drivers cannot pull it low`);
+  if (margin.high !== undefined && margin.high < required) reasons.push(`high noise margin ${v(margin.high)} is below the required ${v(required)} (worst high ${v(high!.worst)} against VIH ${v(vihMax!)})`);
+  if (margin.low !== undefined && margin.low < required) reasons.push(`low noise margin ${v(margin.low)} is below the required ${v(required)} (worst low ${v(low!.worst)} against VIL ${v(vilMin!)})`);
+  if (cutoff && cutoff.volts < 0) reasons.push(`${cutoff.section} is not cut off while ${name} is high: its grid sits at ${v(cutoff.vgk)}, above its cutoff at ${v(cutoff.reference)}`);
+  if (!chain.settled) reasons.push('the worst-case levels around its loop did not settle');
+  const limits: { what: 'high' | 'low' | 'cutoff'; slack: number }[] = [];
+  if (margin.high !== undefined) limits.push({ what: 'high', slack: margin.high - required });
+  if (margin.low !== undefined) limits.push({ what: 'low', slack: margin.low - required });
+  if (high) limits.push({ what: 'high', slack: high.worst - thresholdVolts - required });
+  if (low) limits.push({ what: 'low', slack: thresholdVolts - low.worst - required });
+  if (cutoff) limits.push({ what: 'cutoff', slack: cutoff.volts });
+  limits.sort((a, b) => a.slack - b.slack);
+  const weakest = limits[0] && { what: limits[0].what, causes: causesOf(chain, net, limits[0].what) };
+  const thresholdsForHeadroom = vilMin !== undefined && vihMax !== undefined ? { vil: vilMin, vih: vihMax } : designWide;
+  let headroom: number | undefined;
+  if (load && thresholdsForHeadroom && net.polarity !== 'input') {
+    const cases = chain.casesOf(net);
+    const bandsOf = (c: { on: number | undefined }) => bandKey(net.parameters, chain.bandsOf(net, chain.boundaryBands(net, c.on)));
+    const key = `headroom|${chain.problem(net.region).key}|${[...cases.high, ...cases.low].map((c) => `${c.on === undefined ? '-' : net.driverPositions[c.on]}:${bandsOf(c)}`).join('|')}|${thresholdsForHeadroom.vil}|${thresholdsForHeadroom.vih}|${l.canHigh}${l.canLow}`;
+    headroom = chain.memo(key, () => fanoutHeadroom(chain, name, load, thresholdsForHeadroom, required));
+  }
+  return {
+    ...base,
+    high,
+    low,
+    margin,
+    cutoffMargin: cutoff,
+    driveMargin: drive,
+    headroom,
+    status: reasons.length > 0 ? 'fail' : 'pass',
+    reasons,
+    weakest,
+    slack: limits[0]?.slack ?? Infinity,
+  };
+}
+
+/** The parameters whose corners make a level weak, largest effect first (at most four). */
+function causesOf(chain: LevelChain, net: ChainNet, what: 'high' | 'low' | 'cutoff'): Cause[] {
+  const cases = chain.casesOf(net);
+  const list = what === 'low' ? cases.low : cases.high;
+  let result: CaseResult | undefined;
+  for (const c of list) {
+    const r = chain.solveCase(c);
+    const worse = (x: CaseResult) => (x.worst ?? (x.sense === 'min' ? -Infinity : Infinity)) * (x.sense === 'min' ? -1 : 1);
+    if (!result || worse(r) > worse(result)) result = r;
+  }
+  if (!result?.vertex || !result.effects) return [];
+  const r = result;
+  return net.parameters
+    .map((p, i) => {
+      const b = r.bands[i]!;
+      const width = b.high - b.low;
+      const shift = width > 0 ? (r.effects![i]! * (r.vertex![i]! - b.nominal)) / width : 0;
+      return { kind: p.kind, target: p.target, end: r.vertex![i] === b.high ? ('high' as const) : ('low' as const), value: r.vertex![i]!, volts: shift };
+    })
+    .filter((c) => Math.abs(c.volts) > 1e-3)
+    .sort((a, b) => Math.abs(b.volts) - Math.abs(a.volts))
+    .slice(0, 4);
+}
+
+export { MAX_EXTRA_LOADS };

@@ -1,0 +1,144 @@
+import type { Receiver } from '../graph/stageGraph.js';
+import type { LevelChain } from './levelChain.js';
+import { localDesign } from './localDesign.js';
+import { receiverThresholds, type ReceiverThresholds } from './receiverThresholds.js';
+import { staticNoiseMargin, type ButterflyResult } from './staticNoiseMargin.js';
+import { triggerMargin } from './switching.js';
+
+/** Whether one set or reset input of a latch switches it. */
+export interface LatchInput {
+  /** The input net. */
+  input: string;
+  /** The latch net that input pulls low. */
+  pulls: string;
+  /** True when, with the input at its weakest asserted level, the state it must end no longer exists. */
+  switches: boolean;
+  /** The input level at which the old state stops existing (volts). */
+  threshold: number | undefined;
+  /** The weakest asserted level minus that threshold (volts). */
+  triggerMargin: number | undefined;
+  /** The weakest asserted level used. */
+  asserted: number;
+  /** Why it was not judged (an input that never goes high), when it was not. */
+  note?: string;
+}
+
+export interface LatchResult {
+  nets: [string, string];
+  /** Both states exist in worst case: the butterfly at its worst corners is bistable and each net's levels clear the other stage's thresholds. */
+  holds: boolean;
+  /** Largest-square static noise margin (Seevinck et al.), nominal and at the worst combination of corners. */
+  snm: { nominal: number; worst: number };
+  /** The butterflies (for drawing): nominal and worst. */
+  butterfly: { nominal: ButterflyResult; worst: ButterflyResult } | undefined;
+  inputs: LatchInput[];
+  reasons: string[];
+}
+
+/**
+ * Checks one latch: whether it holds a state in worst case, its static noise margin, and
+ * whether each of its set and reset inputs switches it at the input's weakest asserted
+ * level, with the trigger margin.
+ *
+ * The butterfly is drawn from the two receiving stages' transfer curves (each with its
+ * own divider and loading, from the local solves); its worst SNM is the smallest over the
+ * four combinations of each curve's early and late corner. The trigger is found on the
+ * latch's own region (both stages, their dividers and what they feed, every other net held)
+ * solved whole, with the parameters at the vertex that makes the pulled net's low level
+ * highest, by bisection on the input level (see `triggerMargin`).
+ */
+export function latchCheck(chain: LevelChain, latch: [string, string]): LatchResult {
+  const [a, b] = latch;
+  const reasons: string[] = [];
+  const receiver = (from: string, to: string): Receiver | undefined => chain.index.graph.nets.find((n) => n.name === from)?.receivers.find((r) => r.output === to);
+  const rab = receiver(a, b);
+  const rba = receiver(b, a);
+  const t1 = rab && receiverThresholds(chain, a, rab);
+  const t2 = rba && receiverThresholds(chain, b, rba);
+  let butterfly: LatchResult['butterfly'];
+  let snm = { nominal: 0, worst: 0 };
+  if (t1 && t2) {
+    const nominal = staticNoiseMargin(t1.curves.nominal, t2.curves.nominal);
+    let worst = nominal;
+    for (const c1 of [t1.curves.early, t1.curves.late]) {
+      for (const c2 of [t2.curves.early, t2.curves.late]) {
+        const r = staticNoiseMargin(c1, c2);
+        if (r.snm < worst.snm || !r.bistable) worst = r;
+        if (!r.bistable) break;
+      }
+    }
+    butterfly = { nominal, worst };
+    snm = { nominal: nominal.snm, worst: worst.bistable ? worst.snm : 0 };
+  } else reasons.push('the transfer curves of its two stages could not be swept');
+  const restores = (net: string, t: ReceiverThresholds | undefined) => {
+    const l = chain.levels.get(net)!;
+    if (!l.canHigh || !l.canLow) {
+      reasons.push(`${net} can never be ${l.canHigh ? 'low' : 'high'}`);
+      return false;
+    }
+    if (!t || t.vihMax === undefined || t.vilMin === undefined) {
+      reasons.push(`the stage ${net} drives has a gain below 1: it cannot restore levels`);
+      return false;
+    }
+    let ok = true;
+    if (l.highWorst < t.vihMax) {
+      reasons.push(`${net}'s worst high level ${l.highWorst.toFixed(2)} V is below ${t.stage}'s VIH ${t.vihMax.toFixed(2)} V`);
+      ok = false;
+    }
+    if (l.lowWorst > t.vilMin) {
+      reasons.push(`${net}'s worst low level ${l.lowWorst.toFixed(2)} V is above ${t.stage}'s VIL ${t.vilMin.toFixed(2)} V`);
+      ok = false;
+    }
+    return ok;
+  };
+  const levelsHold = [restores(a, t1), restores(b, t2)].every(Boolean);
+  if (butterfly && !butterfly.worst.bistable) reasons.push('at its worst corners the two transfer curves cross only once: no second state');
+  const holds = levelsHold && snm.worst > 0;
+  const inputs = [...latchInputs(chain, b, a), ...latchInputs(chain, a, b)];
+  return { nets: [a, b], holds, snm, butterfly, inputs, reasons };
+}
+
+/** The set or reset inputs that pull `pulled` low (the other drivers of its stage than the one `partner` feeds), each checked. */
+function latchInputs(chain: LevelChain, pulled: string, partner: string): LatchInput[] {
+  const net = chain.nets.get(pulled)!;
+  if (net.polarity !== 'inverting') return [];
+  const out: LatchInput[] = [];
+  net.drivers.forEach((_, i) => {
+    const feeders = net.feeders[i]!;
+    if (feeders.includes(partner) || feeders.length !== 1) return;
+    const input = feeders[0]!;
+    const l = chain.levels.get(input)!;
+    if (!l.canHigh) {
+      out.push({ input, pulls: pulled, switches: false, threshold: undefined, triggerMargin: undefined, asserted: NaN, note: `${input} never goes high` });
+      return;
+    }
+    out.push(checkTrigger(chain, [partner, pulled], pulled, i, input));
+  });
+  return out;
+}
+
+function checkTrigger(chain: LevelChain, latch: [string, string], pulled: string, driver: number, input: string): LatchInput {
+  const net = chain.nets.get(pulled)!;
+  const corner = chain.solveCase({ net: pulled, on: driver });
+  const { region } = chain.regionWith(latch);
+  const l = chain.levels.get(input)!;
+  const asserted = l.highWorst;
+  const quiet = l.canLow ? l.lowWorst : chain.railMin;
+  const levels = new Map<string, number>();
+  const others = new Set([...chain.nets.get(latch[0])!.feeders.flat(), ...net.feeders.flat()]);
+  for (const bnet of region.boundaries) {
+    const bl = chain.levels.get(bnet)!;
+    levels.set(bnet, others.has(bnet) && bl.canLow ? bl.lowWorst : bl.canLow ? bl.lowNominal : bl.highNominal);
+  }
+  const key = `trigger|${region.key}|${region.boundaries.indexOf(input)}|${region.boundaries.map((n) => levels.get(n)).join(',')}|${corner.vertex?.join(',')}|${asserted}|${quiet}`;
+  const found = chain.memo(key, () => {
+    const vertex = corner.vertex;
+    // The corner's own boundary levels are left out: the latch region holds its boundaries itself.
+    const parameters = net.parameters.filter((p) => p.kind !== 'level');
+    const values = vertex ? parameters.map((_, i) => vertex[net.parameters.indexOf(parameters[i]!)]!) : undefined;
+    const local = localDesign(chain.design, region, levels, vertex ? parameters : undefined, values);
+    const answer = triggerMargin(local.design, { latch, input, leaves: pulled, quiet, asserted }, local.variation);
+    return { switches: answer.switches, threshold: answer.threshold, triggerMargin: answer.triggerMargin };
+  });
+  return { input, pulls: pulled, asserted, ...found };
+}

@@ -1,0 +1,80 @@
+import type { Receiver } from '../graph/stageGraph.js';
+import type { TransferCurve } from './staticNoiseMargin.js';
+import { unityGainPoints } from './unityGain.js';
+import { bandKey, type LevelChain } from './levelChain.js';
+
+/** The input thresholds of one receiving stage, seen from the net that drives it. */
+export interface ReceiverThresholds {
+  /** The receiving stage's output net. */
+  stage: string;
+  section: string;
+  /** Unity-gain points at nominal values; undefined when the stage's gain never reaches 1. */
+  nominal: { vil: number; vih: number } | undefined;
+  /** VIL at the corner that makes the stage switch earliest, VIH at the one that makes it switch latest. */
+  vilMin: number | undefined;
+  vihMax: number | undefined;
+  curves: { nominal: TransferCurve; early: TransferCurve; late: TransferCurve };
+}
+
+/** Points of each transfer-curve sweep, ends included. */
+export const SWEEP_POINTS = 161;
+
+/**
+ * The transfer curve of a receiving stage as a function of the net that drives it, with
+ * the stage's own divider, plate load and the grids it feeds in place (its local region),
+ * its other inputs low; and from it the unity-gain input thresholds VIL and VIH (Hodges
+ * and Jackson). In worst case the curve is taken at two corners chosen by the linearised
+ * sensitivity of the output at the middle of the input swing: the corner that pulls the
+ * output down (the stage switches early: lowest VIL) and the one that holds it up (late:
+ * highest VIH). Undefined for a receiver that is not an inverting stage, or whose stage
+ * can never go high (another input holds it low).
+ */
+export function receiverThresholds(chain: LevelChain, driving: string, receiver: Receiver): ReceiverThresholds | undefined {
+  const stage = receiver.output === undefined ? undefined : chain.nets.get(receiver.output);
+  if (!stage || stage.polarity !== 'inverting' || !chain.levels.get(stage.name)!.canHigh) return undefined;
+  const on = stage.drivers.indexOf(receiver.section);
+  const boundary = chain.boundaryBands(stage, on, driving);
+  const bands = chain.bandsOf(stage, boundary);
+  const swept = stage.parameters.findIndex((p) => p.kind === 'level' && p.target === driving);
+  if (swept < 0) return undefined;
+  const { problem, key } = chain.problem(stage.region);
+  const l = chain.levels.get(driving)!;
+  const lo = l.canLow ? Math.min(l.lowNominal, l.lowWorst) : chain.railMin;
+  const hi = l.canHigh ? Math.max(l.highNominal, l.highWorst) : chain.railMax;
+  const swing = Math.max(1, hi - lo);
+  const from = Math.max(chain.railMin, lo - 0.25 * swing);
+  const to = Math.min(chain.railMax, hi + 0.1 * swing);
+  const memoKey = `thresholds|${key}|${stage.driverPositions[on]}|${swept}|${from}|${to}|${bandKey(stage.parameters, bands)}`;
+  // Kept without names: every receiver of the same kind shares it.
+  const found = chain.memo(memoKey, () => {
+    const nominal = Float64Array.from(bands, (b) => b.nominal);
+    nominal[swept] = (lo + hi) / 2;
+    const at = problem.probe(nominal);
+    if (!at) return undefined;
+    const corner = (down: boolean) =>
+      Float64Array.from(bands, (b, i) => (i === swept ? 0 : (at.slopes[i]! > 0) === down ? b.low : b.high));
+    const sweep = (values: Float64Array): TransferCurve | undefined => {
+      const vin: number[] = [];
+      const vout: number[] = [];
+      for (let k = 0; k < SWEEP_POINTS; k++) {
+        const v = from + ((to - from) * k) / (SWEEP_POINTS - 1);
+        values[swept] = v;
+        if (!problem.solve(values)) return undefined;
+        vin.push(v);
+        vout.push(problem.volts(problem.target));
+      }
+      return { vin, vout };
+    };
+    const curves = { nominal: sweep(nominal), early: sweep(corner(true)), late: sweep(corner(false)) };
+    if (!curves.nominal || !curves.early || !curves.late) return undefined;
+    const early = unityGainPoints(curves.early.vin, curves.early.vout);
+    const late = unityGainPoints(curves.late.vin, curves.late.vout);
+    return {
+      nominal: unityGainPoints(curves.nominal.vin, curves.nominal.vout),
+      vilMin: early?.vil,
+      vihMax: late?.vih,
+      curves: curves as ReceiverThresholds['curves'],
+    };
+  });
+  return found && { stage: stage.name, section: receiver.section, ...found };
+}

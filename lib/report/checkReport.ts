@@ -1,0 +1,216 @@
+import type { CheckResult, Cause, NetCheck } from '../analysis/check.js';
+import { MAX_EXTRA_LOADS } from '../analysis/fanoutHeadroom.js';
+import { CUTOFF_FRACTION } from '../analysis/gridMargins.js';
+import type { Design } from '../design/model.js';
+import { formatSI, table, wrap } from './format.js';
+import { safetyCautions } from './safety.js';
+import { REPORT_COLUMNS } from './showText.js';
+
+/** The JSON form of a check, `tubemargin.report/1`: its own type, not the analysis's. */
+export interface ReportJson {
+  schema: 'tubemargin.report/1';
+  title: string;
+  verdict: 'pass' | 'fail';
+  requiredMargin: number;
+  ageing: { scenario: string; summary: string };
+  nets: {
+    name: string;
+    driver: string;
+    fanout: number;
+    high: { nominal: number; worst: number } | null;
+    low: { nominal: number; worst: number } | null;
+    margin: { high: number | null; low: number | null };
+    cutoffMargin: number | null;
+    driveMargin: number | null;
+    headroom: number | null;
+    receivers: { section: string; stage: string; vil: number | null; vih: number | null }[];
+    status: 'pass' | 'fail' | 'unchecked';
+    reasons: string[];
+    causes: { parameter: string; kind: string; end: 'low' | 'high'; value: number; effectVolts: number }[];
+  }[];
+  latches: {
+    nets: [string, string];
+    holds: boolean;
+    snm: number;
+    snmNominal: number;
+    switches: boolean | null;
+    triggerMargin: number | null;
+    inputs: { input: string; pulls: string; switches: boolean; threshold: number | null; triggerMargin: number | null; note: string | null }[];
+    reasons: string[];
+  }[];
+  definitions: Record<string, string>;
+  cautions: string[];
+}
+
+/** What each figure of the report means; printed under the text report and carried in the JSON. */
+export const DEFINITIONS: Record<string, string> = {
+  worstHigh: 'lowest high level over every tolerance, spread and ageing corner: all drivers cut off, their inputs at the highest low level, every grid the net feeds clamped',
+  worstLow: 'highest low level: one driver conducting with its input at the lowest high level and the weakest tube, the others cut off',
+  nmHigh: 'NM_H = worst high − the highest VIH of the inputs it feeds (VIH, VIL: unity-gain points of the receiving stage, Hodges and Jackson)',
+  nmLow: 'NM_L = the lowest VIL of the inputs it feeds − worst low',
+  cutoffMargin: `how far each OFF grid sits below cutoff while the net is high (cutoff: plate current ${CUTOFF_FRACTION * 100} % of its value at Vgk = 0 V, at the same plate and screen voltages)`,
+  driveMargin: 'how far the ON input divider would push the grid above the cathode if grid current did not clamp it, at the worst low corner',
+  headroom: `how many more standard loads (the design's most common input divider) the net can feed before a noise margin drops below the required one (counted up to ${MAX_EXTRA_LOADS})`,
+  snm: 'latch static noise margin: the side of the largest square inside the smaller lobe of the butterfly of its two transfer curves (Seevinck, List, Lohstroh 1987), at the worst pair of corners',
+  triggerMargin: 'a set or reset input at its weakest asserted level, minus the level at which the old state stops existing',
+};
+
+const num = (x: number | undefined) => (x === undefined || !Number.isFinite(x) ? null : x);
+
+export function checkToJson(design: Design, r: CheckResult): ReportJson {
+  return {
+    schema: 'tubemargin.report/1',
+    title: r.title,
+    verdict: r.verdict,
+    requiredMargin: r.requiredMargin,
+    ageing: { scenario: r.scenario.name, summary: r.scenario.summary },
+    nets: r.nets.map((n) => ({
+      name: n.name,
+      driver: n.driver,
+      fanout: n.fanout,
+      high: n.high ?? null,
+      low: n.low ?? null,
+      margin: { high: num(n.margin.high), low: num(n.margin.low) },
+      cutoffMargin: num(n.cutoffMargin?.volts),
+      driveMargin: num(n.driveMargin?.volts),
+      headroom: n.headroom ?? null,
+      receivers: n.receivers.map((x) => ({ section: x.section, stage: x.stage, vil: num(x.vilMin), vih: num(x.vihMax) })),
+      status: n.status,
+      reasons: n.reasons,
+      causes: (n.weakest?.causes ?? []).map((c) => ({ parameter: c.target, kind: c.kind, end: c.end, value: c.value, effectVolts: c.volts })),
+    })),
+    latches: r.latches.map((l) => {
+      const judged = l.inputs.filter((i) => i.note === undefined);
+      const margins = judged.flatMap((i) => (i.triggerMargin === undefined ? [] : [i.triggerMargin]));
+      return {
+        nets: l.nets,
+        holds: l.holds,
+        snm: l.snm.worst,
+        snmNominal: l.snm.nominal,
+        switches: judged.length ? judged.every((i) => i.switches) : null,
+        triggerMargin: margins.length && judged.every((i) => i.switches) ? Math.min(...margins) : null,
+        inputs: l.inputs.map((i) => ({ input: i.input, pulls: i.pulls, switches: i.switches, threshold: num(i.threshold), triggerMargin: num(i.triggerMargin), note: i.note ?? null })),
+        reasons: l.reasons,
+      };
+    }),
+    definitions: DEFINITIONS,
+    cautions: safetyCautions(design),
+  };
+}
+
+const v = (x: number | undefined) => (x === undefined || !Number.isFinite(x) ? '—' : x.toFixed(2));
+
+/** How a cause reads: "x2.v2 emission 75 % of nominal (low end): up 2.10 V". */
+export function describeCause(c: Cause): string {
+  const what: Record<Cause['kind'], string> = {
+    resistor: `${c.target} at ${formatSI(c.value, 'Ω')}`,
+    drive: `drive ${c.target} at ${v(c.value)} V`,
+    rail: `rail ${c.target} at ${v(c.value)} V`,
+    perveance: `${c.target} emission ${Math.round(c.value * 100)} % of nominal`,
+    interface: `${c.target} cathode interface ${formatSI(c.value, 'Ω')}`,
+    level: `${c.target} at ${v(c.value)} V`,
+  };
+  return `${what[c.kind]} (${c.end} end): ${c.volts >= 0 ? 'up' : 'down'} ${Math.abs(c.volts).toFixed(2)} V`;
+}
+
+/** Prose wrapped to the report's width, its first line after `first`, the rest after `rest`. */
+function indented(text: string, first: string, rest: string): string[] {
+  return wrap(text, REPORT_COLUMNS - first.length, rest.slice(first.length)).map((line) => first + line);
+}
+
+function statusText(n: NetCheck): string {
+  return n.status === 'fail' ? 'FAIL' : n.status === 'pass' ? 'ok' : 'unchecked';
+}
+
+/**
+ * The text of `tubemargin check`: the verdict; nets weakest first (driver, fan-out, worst
+ * high and low, noise margins, cutoff and drive margins, headroom, status); latches
+ * (holds, SNM, switches, trigger margin); the weakest three nets explained by the
+ * parameters whose corners make them weak; what each figure means. Lines fit 80 columns.
+ */
+export function renderCheck(design: Design, r: CheckResult, source: string): string {
+  const out: string[] = [];
+  const failing = r.nets.filter((n) => n.status === 'fail');
+  const badLatches = r.latches.filter((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined));
+  out.push(`${design.title || '(untitled design)'} — ${source}`);
+  const verdict =
+    r.verdict === 'pass'
+      ? `PASS: every net keeps ${v(r.requiredMargin)} V of margin and every latch holds and switches, in worst case (${r.scenario.name}: ${r.scenario.summary}).`
+      : `FAIL: ${failing.length} of ${r.nets.length} nets and ${badLatches.length} of ${r.latches.length} latches fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.`;
+  out.push(...wrap(verdict, REPORT_COLUMNS));
+  if (!r.settled) out.push(...wrap(`The worst-case levels around a loop did not settle in ${r.rounds} rounds.`, REPORT_COLUMNS));
+  out.push('');
+  out.push(`Nets, weakest first (${r.nets.length})`);
+  out.push(
+    ...table(
+      ['  net', 'driver', 'fan', 'high', 'low', 'NM_H', 'NM_L', 'cutoff', 'drive', 'more', 'status'],
+      r.nets.map((n) => [
+        '  ' + n.name,
+        n.kind === 'input' ? 'input' : `${n.driver.split(' ')[0]} sect`,
+        String(n.fanout),
+        v(n.high?.worst),
+        v(n.low?.worst),
+        v(n.margin.high),
+        v(n.margin.low),
+        v(n.cutoffMargin?.volts),
+        v(n.driveMargin?.volts),
+        n.headroom === undefined ? '—' : n.headroom >= MAX_EXTRA_LOADS ? `${MAX_EXTRA_LOADS}+` : String(n.headroom),
+        statusText(n),
+      ]),
+      [16, 6, 3, 6, 6, 6, 6, 6, 6, 4],
+    ),
+  );
+  out.push('  (levels and margins in volts, worst case; "more": extra standard loads it can take)');
+  if (r.latches.length > 0) {
+    out.push('');
+    out.push(`Latches (${r.latches.length})`);
+    out.push(
+      ...table(
+        ['  latch', 'holds', 'SNM', 'input', 'switches', 'trigger'],
+        r.latches.flatMap((l) => {
+          const head = ['  ' + l.nets.join(' ↔ '), l.holds ? 'yes' : 'NO', `${v(l.snm.worst)}`];
+          if (l.inputs.length === 0) return [[...head, '—', '—', '—']];
+          return l.inputs.map((i, k) => [
+            ...(k === 0 ? head : ['', '', '']),
+            i.input,
+            i.note !== undefined ? 'never set' : i.switches ? 'yes' : 'NO',
+            i.note !== undefined ? '—' : v(i.triggerMargin),
+          ]);
+        }),
+        [26, 5, 6, 14, 9],
+      ),
+    );
+    out.push('  (SNM and trigger margin in volts, worst case)');
+  }
+  const explained = r.nets.filter((n) => n.status !== 'unchecked').slice(0, 3);
+  if (explained.length > 0) {
+    out.push('');
+    out.push('The weakest nets, and why');
+    explained.forEach((n, k) => {
+      const summary =
+        n.reasons[0] ??
+        (n.weakest?.what === 'cutoff'
+          ? `cutoff margin ${v(n.cutoffMargin?.volts)} V`
+          : n.weakest?.what === 'low'
+            ? `worst low ${v(n.low?.worst)} V, NM_L ${v(n.margin.low)} V`
+            : `worst high ${v(n.high?.worst)} V, NM_H ${v(n.margin.high)} V`);
+      out.push(...indented(`${k + 1}. ${n.name} (${statusText(n)}): ${summary}`, '', '     '));
+      for (const reason of n.reasons.slice(1)) out.push(...indented(`also: ${reason}`, '   ', '     '));
+      if (n.weakest && n.weakest.causes.length > 0) {
+        out.push(`   its worst ${n.weakest.what === 'low' ? 'low level' : 'high level'} comes from:`);
+        for (const c of n.weakest.causes) out.push(...indented(describeCause(c), '     ', '       '));
+      }
+    });
+  }
+  for (const l of badLatches) {
+    out.push('');
+    out.push(...indented(`Latch ${l.nets.join(' ↔ ')}: ${l.holds ? 'holds' : 'does NOT hold'}${l.reasons.length ? ': ' + l.reasons.join('; ') : ''}`, '', '  '));
+    for (const i of l.inputs) if (!i.switches && i.note === undefined) out.push(...indented(`${i.input} at its weakest asserted level ${v(i.asserted)} V does not switch it`, '  ', '    '));
+  }
+  out.push('');
+  out.push('What the figures mean');
+  for (const [k, text] of Object.entries(DEFINITIONS)) out.push(...indented(`${k}: ${text}`, '  ', '    '));
+  const cautions = safetyCautions(design);
+  if (cautions.length > 0) out.push('', ...cautions.flatMap((c) => wrap(c, REPORT_COLUMNS)));
+  return out.join('\n') + '\n';
+}
