@@ -4,7 +4,7 @@ import { logicThreshold } from '../solve/operatingPoint.js';
 import { AGEING_SCENARIOS, type AgeingScenario } from './ageing.js';
 import { fanoutHeadroom, MAX_EXTRA_LOADS, standardLoad, type StandardLoad } from './fanoutHeadroom.js';
 import { cutoffMargin, driveMargin, type GridMargin } from './gridMargins.js';
-import { bandKey, LevelChain, type CaseResult, type ChainNet } from './levelChain.js';
+import { LevelChain, type CaseResult, type ChainNet } from './levelChain.js';
 import { latchCheck, type LatchResult } from './latchCheck.js';
 import type { LocalParameter } from './localProblem.js';
 import { receiverThresholds } from './receiverThresholds.js';
@@ -59,7 +59,7 @@ export interface NetCheck {
   headroom: number | undefined;
   status: 'pass' | 'fail' | 'unchecked';
   reasons: string[];
-  /** The level that limits the net, and the parameters whose corners make it so, largest first. */
+  /** The level that limits the net, and the parameters whose corners make it so, largest first (given for failing nets and the three weakest). */
   weakest: { what: 'high' | 'low' | 'cutoff'; causes: Cause[] } | undefined;
   /** Worst slack against the requirement (volts): the smaller margin minus the required one, or the cutoff margin; sorts nets weakest first. */
   slack: number;
@@ -121,6 +121,10 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
 
   const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, required, load, designWide));
   nets.sort((a, b) => (a.status === 'unchecked') !== (b.status === 'unchecked') ? (a.status === 'unchecked' ? 1 : -1) : a.slack - b.slack || compareNames(a.name, b.name));
+  // The parameters behind the weakness, for every failing net and the three weakest.
+  nets.forEach((n, i) => {
+    if (n.weakest && (n.status === 'fail' || i < 3)) n.weakest.causes = causesOf(chain, chain.nets.get(n.name)!, n.weakest.what);
+  });
   const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => latchCheck(chain, l.nets as [string, string]));
   const failed = nets.some((n) => n.status === 'fail') || latches.some((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined)) || !chain.settled;
   return {
@@ -193,13 +197,12 @@ function judgeNet(chain: LevelChain, name: string, fanout: number, receivers: Re
   if (low) limits.push({ what: 'low', slack: thresholdVolts - low.worst - required });
   if (cutoff) limits.push({ what: 'cutoff', slack: cutoff.volts });
   limits.sort((a, b) => a.slack - b.slack);
-  const weakest = limits[0] && { what: limits[0].what, causes: causesOf(chain, net, limits[0].what) };
+  // Causes are filled in later, for the nets the report explains.
+  const weakest = limits[0] && { what: limits[0].what, causes: [] };
   const thresholdsForHeadroom = vilMin !== undefined && vihMax !== undefined ? { vil: vilMin, vih: vihMax } : designWide;
   let headroom: number | undefined;
   if (load && thresholdsForHeadroom && net.polarity !== 'input') {
-    const cases = chain.casesOf(net);
-    const bandsOf = (c: { on: number | undefined }) => bandKey(net.parameters, chain.bandsOf(net, chain.boundaryBands(net, c.on)));
-    const key = `headroom|${chain.problem(net.region).key}|${[...cases.high, ...cases.low].map((c) => `${c.on === undefined ? '-' : net.driverPositions[c.on]}:${bandsOf(c)}`).join('|')}|${thresholdsForHeadroom.vil}|${thresholdsForHeadroom.vih}|${l.canHigh}${l.canLow}`;
+    const key = `headroom|${chain.classOf(name)}|${thresholdsForHeadroom.vil}|${thresholdsForHeadroom.vih}`;
     headroom = chain.memo(key, () => fanoutHeadroom(chain, name, load, thresholdsForHeadroom, required));
   }
   return {

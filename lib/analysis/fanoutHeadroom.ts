@@ -36,7 +36,7 @@ export function standardLoad(chain: LevelChain): StandardLoad | undefined {
       const pull = at.find((p) => index.fixed.has(other(p)));
       if (!series || !pull || series.type !== 'resistor' || pull.type !== 'resistor') continue;
       const load = { seriesOhms: series.ohms, seriesTol: series.tol, pulldownOhms: pull.ohms, pulldownTol: pull.tol, pulldownRail: other(pull), model: s.model, cathode: s.cathode, count: 0 };
-      const key = JSON.stringify({ ...load, count: 0 });
+      const key = `${load.seriesOhms}/${load.seriesTol}/${load.pulldownOhms}/${load.pulldownTol}/${load.pulldownRail}/${load.model}/${load.cathode}`;
       const have = kinds.get(key) ?? kinds.set(key, load).get(key)!;
       have.count++;
     }
@@ -68,8 +68,7 @@ export function fanoutHeadroom(chain: LevelChain, net: string, load: StandardLoa
       parts.push({ type: 'resistor', name: `fanout:${j}.pulldown`, a: grid, b: load.pulldownRail, ohms: load.pulldownOhms, tol: load.pulldownTol, watts: 1 });
       parts.push({ type: 'tube', name: `fanout:${j}.section`, model: load.model, plate: load.cathode, grid, cathode: load.cathode });
     }
-    const { region, parameters } = chain.regionWith([net], parts);
-    const probe = { ...n, region, parameters };
+    const probe = chain.withParts(n, parts);
     let margin = Infinity;
     if (l.canHigh) margin = Math.min(margin, ...cases.high.map((c) => (chain.solveCase(c, probe).worst ?? -Infinity) - thresholds.vih));
     if (l.canLow) margin = Math.min(margin, ...cases.low.map((c) => thresholds.vil - (chain.solveCase(c, probe).worst ?? Infinity)));

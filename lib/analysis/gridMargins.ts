@@ -1,6 +1,5 @@
 import { evaluateTube, P, R } from '../models/tubeEquations.js';
-import type { LevelChain } from './levelChain.js';
-import type { LocalProblem } from './localProblem.js';
+import type { CaseResult, ChainNet, LevelChain, SectionGrid } from './levelChain.js';
 
 /** Cutoff is where the plate current falls to this fraction of its value at Vgk = 0, at the same plate and screen voltages. */
 export const CUTOFF_FRACTION = 0.01;
@@ -26,19 +25,19 @@ export interface GridMargin {
 export function cutoffMargin(chain: LevelChain, net: string): GridMargin | undefined {
   const n = chain.nets.get(net)!;
   if (n.polarity !== 'inverting' || !chain.levels.get(net)!.canHigh) return undefined;
-  const r = chain.solveCase({ net, on: undefined });
-  if (!r.vertex) return undefined;
-  const { problem } = chain.problem(n.region);
-  if (!problem.solve(r.vertex)) return undefined;
-  let worst: GridMargin | undefined;
-  n.driverPositions.forEach((t, i) => {
-    const v = electrodeVolts(problem, t);
-    const cutoff = cutoffGrid(problem.circuit.tubeParams, t * P.size, v.vak, v.vg2k);
-    if (cutoff === undefined) return;
-    const m = { section: n.drivers[i]!, volts: cutoff - v.vgk, vgk: v.vgk, reference: cutoff };
-    if (!worst || m.volts < worst.volts) worst = m;
+  // Found once per class of nets, by driver index; named for this net.
+  const found = chain.memo(`cutoff|${chain.classOf(net)}`, () => {
+    const grids = gridsAt(chain, n, chain.solveCase({ net, on: undefined }));
+    let worst: (Omit<GridMargin, 'section'> & { driver: number }) | undefined;
+    n.driverPositions.forEach((t, i) => {
+      const g = grids?.[t];
+      if (!g || g.cutoff === undefined) return;
+      const m = { driver: i, volts: g.cutoff - g.vgk, vgk: g.vgk, reference: g.cutoff };
+      if (!worst || m.volts < worst.volts) worst = m;
+    });
+    return worst;
   });
-  return worst;
+  return found && { section: n.drivers[found.driver]!, volts: found.volts, vgk: found.vgk, reference: found.reference };
 }
 
 /**
@@ -52,37 +51,46 @@ export function cutoffMargin(chain: LevelChain, net: string): GridMargin | undef
 export function driveMargin(chain: LevelChain, net: string): GridMargin | undefined {
   const n = chain.nets.get(net)!;
   if (n.polarity !== 'inverting') return undefined;
-  const { problem } = chain.problem(n.region);
-  let worst: GridMargin | undefined;
-  for (const c of chain.casesOf(n).low) {
-    const r = chain.solveCase(c);
-    if (!r.vertex || !problem.solve(r.vertex)) continue;
-    const t = n.driverPositions[c.on!]!;
-    const c0 = problem.circuit;
-    const g = c0.tG[t]!;
-    const vk = problem.volts(c0.tK[t]!);
+  const found = chain.memo(`drive|${chain.classOf(net)}`, () => {
+    let worst: (Omit<GridMargin, 'section'> & { driver: number }) | undefined;
+    for (const c of chain.casesOf(n).low) {
+      const g = gridsAt(chain, n, chain.solveCase(c))?.[n.driverPositions[c.on!]!];
+      if (!g) continue;
+      const m = { driver: c.on!, volts: g.openVgk, vgk: g.vgk, reference: 0 };
+      if (!worst || m.volts < worst.volts) worst = m;
+    }
+    return worst;
+  });
+  return found && { section: n.drivers[found.driver]!, volts: found.volts, vgk: found.vgk, reference: found.reference };
+}
+
+/** Every section's grid at a case's vertex, solved once and kept with the case (shared by every net of the same kind). */
+function gridsAt(chain: LevelChain, n: ChainNet, r: CaseResult): SectionGrid[] | undefined {
+  if (r.grids) return r.grids;
+  const { problem } = chain.problem(n.region, undefined, n.kind);
+  if (!r.vertex || !problem.solve(r.vertex)) return undefined;
+  const c = problem.circuit;
+  r.grids = [];
+  for (let t = 0; t < c.tA.length; t++) {
+    const vk = problem.volts(c.tK[t]!);
+    const g = c.tG[t]!;
+    const vak = problem.volts(c.tA[t]!) - vk;
+    const vg2k = c.hasScreen[t] ? problem.volts(c.tS[t]!) - vk : 0;
     let open = problem.volts(g);
     if (g >= 0) {
       let sum = 0;
       let weighted = 0;
-      for (let e = 0; e < c0.gA.length; e++) {
-        const other = c0.gA[e] === g ? c0.gB[e]! : c0.gB[e] === g ? c0.gA[e]! : undefined;
+      for (let e = 0; e < c.gA.length; e++) {
+        const other = c.gA[e] === g ? c.gB[e]! : c.gB[e] === g ? c.gA[e]! : undefined;
         if (other === undefined) continue;
-        sum += c0.gS[e]!;
-        weighted += c0.gS[e]! * problem.volts(other);
+        sum += c.gS[e]!;
+        weighted += c.gS[e]! * problem.volts(other);
       }
       if (sum > 0) open = weighted / sum;
     }
-    const m = { section: n.drivers[c.on!]!, volts: open - vk, vgk: problem.volts(g) - vk, reference: 0 };
-    if (!worst || m.volts < worst.volts) worst = m;
+    r.grids.push({ vgk: problem.volts(g) - vk, cutoff: cutoffGrid(c.tubeParams, t * P.size, vak, vg2k), openVgk: open - vk });
   }
-  return worst;
-}
-
-function electrodeVolts(problem: LocalProblem, t: number): { vgk: number; vak: number; vg2k: number } {
-  const c = problem.circuit;
-  const vk = problem.volts(c.tK[t]!);
-  return { vgk: problem.volts(c.tG[t]!) - vk, vak: problem.volts(c.tA[t]!) - vk, vg2k: c.hasScreen[t] ? problem.volts(c.tS[t]!) - vk : 0 };
+  return r.grids;
 }
 
 /** The grid voltage where the plate current is `CUTOFF_FRACTION` of that at Vgk = 0, by bisection (the current rises with Vgk); undefined when the section draws nothing at Vgk = 0. */

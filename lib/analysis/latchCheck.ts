@@ -58,17 +58,20 @@ export function latchCheck(chain: LevelChain, latch: [string, string]): LatchRes
   let butterfly: LatchResult['butterfly'];
   let snm = { nominal: 0, worst: 0 };
   if (t1 && t2) {
-    const nominal = staticNoiseMargin(t1.curves.nominal, t2.curves.nominal);
-    let worst = nominal;
-    for (const c1 of [t1.curves.early, t1.curves.late]) {
-      for (const c2 of [t2.curves.early, t2.curves.late]) {
-        const r = staticNoiseMargin(c1, c2);
-        if (r.snm < worst.snm || !r.bistable) worst = r;
-        if (!r.bistable) break;
+    // The butterflies depend on the two curves alone: latches of one kind share them.
+    const found = chain.memo(`butterfly|${t1.key}|${t2.key}`, () => {
+      const nominal = staticNoiseMargin(t1.curves.nominal, t2.curves.nominal);
+      let worst = nominal;
+      for (const c1 of [t1.curves.early, t1.curves.late]) {
+        for (const c2 of [t2.curves.early, t2.curves.late]) {
+          const r = staticNoiseMargin(c1, c2);
+          if (worst.bistable && (!r.bistable || r.snm < worst.snm)) worst = r;
+        }
       }
-    }
-    butterfly = { nominal, worst };
-    snm = { nominal: nominal.snm, worst: worst.bistable ? worst.snm : 0 };
+      return { nominal, worst };
+    });
+    butterfly = found;
+    snm = { nominal: found.nominal.snm, worst: found.worst.bistable ? found.worst.snm : 0 };
   } else reasons.push('the transfer curves of its two stages could not be swept');
   const restores = (net: string, t: ReceiverThresholds | undefined) => {
     const l = chain.levels.get(net)!;
@@ -119,23 +122,25 @@ function latchInputs(chain: LevelChain, pulled: string, partner: string): LatchI
 
 function checkTrigger(chain: LevelChain, latch: [string, string], pulled: string, driver: number, input: string): LatchInput {
   const net = chain.nets.get(pulled)!;
-  const corner = chain.solveCase({ net: pulled, on: driver });
-  const { region } = chain.regionWith(latch);
+  const partner = chain.nets.get(latch[0])!;
   const l = chain.levels.get(input)!;
   const asserted = l.highWorst;
-  const quiet = l.canLow ? l.lowWorst : chain.railMin;
-  const levels = new Map<string, number>();
-  const others = new Set([...chain.nets.get(latch[0])!.feeders.flat(), ...net.feeders.flat()]);
-  for (const bnet of region.boundaries) {
-    const bl = chain.levels.get(bnet)!;
-    levels.set(bnet, others.has(bnet) && bl.canLow ? bl.lowWorst : bl.canLow ? bl.lowNominal : bl.highNominal);
-  }
-  const key = `trigger|${region.key}|${region.boundaries.indexOf(input)}|${region.boundaries.map((n) => levels.get(n)).join(',')}|${corner.vertex?.join(',')}|${asserted}|${quiet}`;
+  // The two nets' classes, how they see each other and which input is asserted fix the whole question.
+  const key = `trigger|${chain.classOf(latch[0])}|${chain.classOf(pulled)}|${partner.region.boundaries.indexOf(pulled)}|${net.region.boundaries.indexOf(latch[0])}|${net.driverPositions[driver]}`;
   const found = chain.memo(key, () => {
+    const corner = chain.solveCase({ net: pulled, on: driver });
+    const { region } = chain.regionWith(latch);
+    const quiet = l.canLow ? l.lowWorst : chain.railMin;
+    const levels = new Map<string, number>();
+    const others = new Set([...partner.feeders.flat(), ...net.feeders.flat()]);
+    for (const b of region.boundaries) {
+      const bl = chain.levels.get(b)!;
+      levels.set(b, others.has(b) && bl.canLow ? bl.lowWorst : bl.canLow ? bl.lowNominal : bl.highNominal);
+    }
     const vertex = corner.vertex;
     // The corner's own boundary levels are left out: the latch region holds its boundaries itself.
     const parameters = net.parameters.filter((p) => p.kind !== 'level');
-    const values = vertex ? parameters.map((_, i) => vertex[net.parameters.indexOf(parameters[i]!)]!) : undefined;
+    const values = vertex ? parameters.map((p) => vertex[net.parameters.indexOf(p)]!) : undefined;
     const local = localDesign(chain.design, region, levels, vertex ? parameters : undefined, values);
     const answer = triggerMargin(local.design, { latch, input, leaves: pulled, quiet, asserted }, local.variation);
     return { switches: answer.switches, threshold: answer.threshold, triggerMargin: answer.triggerMargin };

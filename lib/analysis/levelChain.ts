@@ -23,6 +23,10 @@ export interface ChainNet {
   driverPositions: number[];
   /** For input nets: the switches and buttons that tie the net to a rail. */
   switches: string[];
+  /** For each boundary net (in `region.boundaries` order): the drivers whose grids it feeds (none for the others). */
+  feeds: number[][];
+  /** The region's key interned to a number: nets of one kind share local problems and results. */
+  kind: number;
 }
 
 /** The levels a net can take: nominal and worst case, per state; NaN where the state cannot occur. */
@@ -33,6 +37,12 @@ export interface NetLevels {
   highWorst: number;
   lowNominal: number;
   lowWorst: number;
+  /** The levels as cache-key text, made once per change: `h…` for the high interval, `l…` the low, `a…` the nominal level. */
+  keys?: { high: string; low: string; any: string };
+}
+
+function levelKeys(l: NetLevels): NonNullable<NetLevels['keys']> {
+  return { high: `h${l.highNominal},${l.highWorst};`, low: `l${l.lowNominal},${l.lowWorst};`, any: `a${l.canLow ? l.lowNominal : l.highNominal};` };
 }
 
 /** One local solve of a net in one logic state: which driver conducts (for a low plate or a high cathode), or none. */
@@ -52,6 +62,16 @@ export interface CaseResult {
   bands: Band[];
   vertex: Float64Array | undefined;
   effects: Float64Array | undefined;
+  /** Each section's grid at the vertex, by position in the region; filled on first use by the grid-side margins. */
+  grids?: SectionGrid[];
+}
+
+/** A section's grid at a solved vertex (volts): against the cathode, its cutoff point, and where its resistors alone would put it. */
+export interface SectionGrid {
+  vgk: number;
+  cutoff: number | undefined;
+  /** The grid's open-circuit voltage against the cathode: with its own current removed, the nodes around it held. */
+  openVgk: number;
 }
 
 /** Worst-case levels are rounded outwards to this step, so the monotone iteration around loops ends in finitely many rounds. */
@@ -89,6 +109,8 @@ export class LevelChain {
   settled = true;
   private readonly problems = new Map<string, LocalProblem>();
   private readonly results = new Map<string, CaseResult>();
+  /** Region keys interned to small numbers, so cache keys stay short. */
+  private readonly kinds = new Map<string, number>();
   private readonly memos = new Map<string, unknown>();
   /** Local solves done (cache misses), for the bench. */
   solves = 0;
@@ -111,29 +133,49 @@ export class LevelChain {
     const drivers = input ? [] : (index.driversOf.get(name) ?? []);
     const followers = drivers.filter((d) => index.follower.has(d)).length;
     const polarity: NetPolarity = input ? 'input' : followers === 0 ? 'inverting' : followers === drivers.length ? 'follower' : 'mixed';
-    const region = buildRegion(index, [name]);
+    const region = buildRegion(index, [name], [], input ? new Set(this.switchesAt(name)) : undefined);
     const tubes = region.parts.filter((p) => p.type === 'tube').map((p) => p.name);
-    const switches: string[] = [];
-    for (const p of region.parts) {
-      if (p.type !== 'switch') continue;
-      if ((p.a === name && index.fixed.has(p.b)) || (p.b === name && index.fixed.has(p.a))) switches.push(p.name);
-    }
+    const switches = input ? this.switchesAt(name) : [];
+    const feeders = drivers.map((d) => index.feedersOf.get(d) ?? []);
+    return this.netWith({ name, polarity, drivers, feeders, driverPositions: drivers.map((d) => tubes.indexOf(d)), switches }, region);
+  }
+
+  /** A chain net over a region: its boundary roles, its kind, and its parameters (made when first asked for: most nets never need theirs). */
+  private netWith(base: Pick<ChainNet, 'name' | 'polarity' | 'drivers' | 'feeders' | 'driverPositions' | 'switches'>, region: Region): ChainNet {
+    const design = this.design;
+    const scenario = this.scenario;
+    let parameters: LocalParameter[] | undefined;
     return {
-      name,
-      polarity,
-      drivers,
-      feeders: drivers.map((d) => index.feedersOf.get(d) ?? []),
+      ...base,
       region,
-      parameters: regionParameters(this.design, region, this.scenario),
-      driverPositions: drivers.map((d) => tubes.indexOf(d)),
-      switches,
+      feeds: region.boundaries.map((b) => base.feeders.flatMap((fs, i) => (fs.includes(b) ? [i] : []))),
+      kind: this.kindOf(region),
+      get parameters() {
+        return (parameters ??= regionParameters(design, region, scenario));
+      },
     };
   }
 
+  /** The region's key as a small number, the same for every region with the same key. */
+  kindOf(region: Region): number {
+    let kind = this.kinds.get(region.key);
+    if (kind === undefined) this.kinds.set(region.key, (kind = this.kinds.size));
+    return kind;
+  }
+
+  /** The switches and buttons that tie a net to a rail or ground. */
+  private switchesAt(net: string): string[] {
+    const { index } = this;
+    return (index.partsAt.get(net) ?? []).flatMap((i) => {
+      const p = index.design.parts[i]!;
+      return p.type === 'switch' && ((p.a === net && index.fixed.has(p.b)) || (p.b === net && index.fixed.has(p.a))) ? [p.name] : [];
+    });
+  }
+
   /** The compiled local problem of a region (with some switches closed), shared by every region with the same key. */
-  problem(region: Region, close: ReadonlySet<string> = new Set()): { problem: LocalProblem; key: string } {
-    const closed = region.parts.flatMap((p, i) => (p.type === 'switch' && close.has(p.name) ? [i] : []));
-    const key = `${region.key}|${closed.join(',')}`;
+  problem(region: Region, close: ReadonlySet<string> = new Set(), kind = this.kindOf(region)): { problem: LocalProblem; key: string } {
+    const closed = close.size === 0 ? '' : region.parts.flatMap((p, i) => (p.type === 'switch' && close.has(p.name) ? [i] : [])).join(',');
+    const key = `${kind}|${closed}`;
     let problem = this.problems.get(key);
     if (!problem) {
       problem = new LocalProblem(this.design, region, this.scenario, close);
@@ -144,33 +186,106 @@ export class LevelChain {
 
   /** Runs the chain to its fixed point. */
   run(): void {
-    this.possibleStates();
-    for (const net of this.nets.values()) if (net.polarity === 'input') this.updateInput(net);
-    for (this.rounds = 1; this.rounds <= MAX_ROUNDS; this.rounds++) {
-      let moved = false;
-      for (const name of this.order) {
-        const net = this.nets.get(name)!;
-        if (net.polarity === 'inverting' || net.polarity === 'follower') moved = this.updateStage(net) || moved;
+    const representatives = this.shareLevels();
+    this.possibleStates(representatives);
+    for (const name of representatives) {
+      const net = this.nets.get(name)!;
+      if (net.polarity === 'input') this.updateInput(net);
+    }
+    // Which nets read each net's level: a net is solved again only when one of those it reads has moved.
+    const classOf = new Map<string, string>();
+    for (const name of representatives) for (const member of this.members.get(name)!) classOf.set(member, name);
+    const readers = new Map<string, Set<string>>();
+    for (const name of representatives) {
+      for (const b of this.nets.get(name)!.region.boundaries) {
+        const c = classOf.get(b)!;
+        (readers.get(c) ?? readers.set(c, new Set()).get(c)!).add(name);
       }
-      if (!moved) return;
+    }
+    let stale = new Set(representatives);
+    for (this.rounds = 1; this.rounds <= MAX_ROUNDS; this.rounds++) {
+      const next = new Set<string>();
+      for (const name of representatives) {
+        if (!stale.has(name)) continue;
+        const net = this.nets.get(name)!;
+        if ((net.polarity === 'inverting' || net.polarity === 'follower') && this.updateStage(net)) {
+          // Readers later in this sweep see the new level now; earlier ones next sweep.
+          for (const r of readers.get(name) ?? []) {
+            stale.add(r);
+            next.add(r);
+          }
+        }
+      }
+      if (next.size === 0) return;
+      stale = next;
     }
     this.settled = false;
   }
 
+  /** The nets of each class, by the class's representative (its first net in sweep order). */
+  private readonly members = new Map<string, string[]>();
+  private classes = new Map<string, number>();
+
+  /** The class of a net after `run`: nets of one class have equal levels and equal local results. */
+  classOf(net: string): number {
+    return this.classes.get(net)!;
+  }
+
   /**
-   * Which states each net can take at all: an input by its switches or drive; an inverting
-   * stage is high only when every driver's feeders can be low, low when some driver's
-   * feeders can all be high (followers the other way round). The greatest fixed point, from
-   * "every state possible".
+   * Nets that are the same problem all the way out share one level record: the coarsest
+   * partition in which nets of a class have regions of the same kind and, boundary by
+   * boundary, boundaries in the same classes (partition refinement, as in the
+   * minimisation of automata). Their levels are equal at every step of the iteration, so
+   * the chain solves one net per class: a register of a thousand identical cells costs
+   * what one cell does. Returns the representatives in sweep order.
    */
-  private possibleStates(): void {
+  private shareLevels(): string[] {
+    let classOf = new Map<string, number>();
+    const ids = new Map<string, number>();
+    for (const name of this.order) {
+      const net = this.nets.get(name)!;
+      const sig = `${net.kind}|${net.polarity}`;
+      if (!ids.has(sig)) ids.set(sig, ids.size);
+      classOf.set(name, ids.get(sig)!);
+    }
+    for (let count = ids.size; ; ) {
+      const refined = new Map<string, number>();
+      const next = new Map<string, number>();
+      for (const name of this.order) {
+        let sig = `${classOf.get(name)}|`;
+        for (const b of this.nets.get(name)!.region.boundaries) sig += `${classOf.get(b)},`;
+        if (!refined.has(sig)) refined.set(sig, refined.size);
+        next.set(name, refined.get(sig)!);
+      }
+      classOf = next;
+      if (refined.size === count) break;
+      count = refined.size;
+    }
+    this.classes = classOf;
+    const representatives: string[] = [];
+    const byClass = new Map<number, string>();
+    for (const name of this.order) {
+      const c = classOf.get(name)!;
+      const rep = byClass.get(c);
+      if (rep === undefined) {
+        byClass.set(c, name);
+        representatives.push(name);
+        this.members.set(name, [name]);
+      } else this.members.get(rep)!.push(name);
+    }
+    return representatives;
+  }
+
+  private possibleStates(representatives: string[]): void {
     // Every net starts at the ideal levels, the rails: above every fixed point of the iteration.
     const top = Math.max(0, ...this.design.rails.map((r) => r.volts));
     const bottom = Math.min(0, ...this.design.rails.map((r) => r.volts));
-    for (const net of this.nets.values()) {
-      this.levels.set(net.name, { canHigh: true, canLow: true, highNominal: top, highWorst: top, lowNominal: bottom, lowWorst: bottom });
+    for (const name of representatives) {
+      const shared: NetLevels = { canHigh: true, canLow: true, highNominal: top, highWorst: top, lowNominal: bottom, lowWorst: bottom };
+      for (const member of this.members.get(name)!) this.levels.set(member, shared);
     }
-    for (const net of this.nets.values()) {
+    for (const name of representatives) {
+      const net = this.nets.get(name)!;
       if (net.polarity !== 'input') continue;
       const l = this.levels.get(net.name)!;
       const states = this.inputConfigurations(net).map((on) => this.isHigh(net.name, this.solveCase({ net: net.name, on }).nominal));
@@ -179,7 +294,8 @@ export class LevelChain {
     }
     for (let changed = true; changed; ) {
       changed = false;
-      for (const net of this.nets.values()) {
+      for (const name of representatives) {
+        const net = this.nets.get(name)!;
         if (net.polarity === 'input' || net.polarity === 'mixed') continue;
         const l = this.levels.get(net.name)!;
         const all = (fs: string[], high: boolean) => fs.every((f) => (high ? this.levels.get(f)!.canHigh : this.levels.get(f)!.canLow));
@@ -190,6 +306,7 @@ export class LevelChain {
         if (canHigh !== l.canHigh || canLow !== l.canLow) {
           l.canHigh = canHigh && l.canHigh;
           l.canLow = canLow && l.canLow;
+          l.keys = undefined;
           changed = true;
         }
       }
@@ -207,7 +324,7 @@ export class LevelChain {
 
   private updateInput(net: ChainNet): void {
     const l = this.levels.get(net.name)!;
-    Object.assign(l, { highNominal: NaN, highWorst: NaN, lowNominal: NaN, lowWorst: NaN });
+    Object.assign(l, { highNominal: NaN, highWorst: NaN, lowNominal: NaN, lowWorst: NaN, keys: undefined });
     for (const on of this.inputConfigurations(net)) {
       const r = this.solveCase({ net: net.name, on });
       if (this.isHigh(net.name, r.nominal)) {
@@ -218,6 +335,7 @@ export class LevelChain {
         l.lowWorst = Math.max(Number.isNaN(l.lowWorst) ? -Infinity : l.lowWorst, r.worst ?? Infinity);
       }
     }
+    l.keys = undefined;
   }
 
   /** The cases of a stage net that give its high level and its low level. */
@@ -242,6 +360,7 @@ export class LevelChain {
       moved = moved || nominal !== l.highNominal || next !== l.highWorst;
       l.highNominal = nominal;
       l.highWorst = next;
+      l.keys = undefined;
     }
     if (cases.low.length > 0) {
       const rs = cases.low.map((c) => this.solveCase(c));
@@ -251,29 +370,53 @@ export class LevelChain {
       moved = moved || nominal !== l.lowNominal || next !== l.lowWorst;
       l.lowNominal = nominal;
       l.lowWorst = next;
+      l.keys = undefined;
     }
     return moved;
   }
 
   /**
-   * The band of each boundary net in a case: the low interval for the inputs of drivers
-   * that must be cut off, the high interval for the inputs of the one that conducts, and
-   * anything the rails allow for the rest (the plates of the sections the net feeds, whose
-   * level does not change the grid current). `swept` is given a degenerate band at 0 and
-   * set by the caller.
+   * The band of every parameter of a net's region in a case. Boundary nets get: the high
+   * interval for the inputs of the driver that conducts (`on`), the low interval for the
+   * inputs of drivers that must be cut off (the high one for an input that is never low),
+   * and anything the rails allow for the rest (the plates of the sections the net feeds,
+   * whose level does not change the grid current). `swept` gets a degenerate band at 0,
+   * for the caller to set.
    */
-  boundaryBands(net: ChainNet, on: number | undefined, swept?: string): Map<string, Band> {
-    const bands = new Map<string, Band>();
-    const driving = new Set(on === undefined ? [] : net.feeders[on]!);
-    const others = new Set(net.feeders.flatMap((fs, i) => (i === on ? [] : fs)));
-    for (const b of net.region.boundaries) {
-      const l = this.levels.get(b);
-      if (b === swept || !l) bands.set(b, { nominal: 0, low: 0, high: 0 });
-      else if (driving.has(b) || (others.has(b) && !l.canLow)) bands.set(b, this.highBand(l));
-      else if (others.has(b)) bands.set(b, this.lowBand(l));
-      else bands.set(b, { nominal: l.canLow ? l.lowNominal : l.highNominal, low: this.railMin, high: this.railMax });
+  bandsOf(net: ChainNet, on: number | undefined, swept?: string): Band[] {
+    const ps = net.parameters;
+    const firstLevel = ps.length - net.region.boundaries.length;
+    return ps.map((p, i) => {
+      if (i < firstLevel) return p;
+      const feeds = net.feeds[i - firstLevel]!;
+      const l = this.levels.get(p.target);
+      if (p.target === swept || !l) return { nominal: 0, low: 0, high: 0 };
+      if (feeds.length === 0) return { nominal: l.canLow ? l.lowNominal : l.highNominal, low: this.railMin, high: this.railMax };
+      if ((on !== undefined && feeds.includes(on)) || !l.canLow) return this.highBand(l);
+      return this.lowBand(l);
+    });
+  }
+
+  /**
+   * A cache key for the boundary bands `bandsOf` would give (the other bands are fixed by
+   * the region's kind), built without making them: the levels each band is made of.
+   */
+  levelKey(net: ChainNet, on: number | undefined, swept?: string): string {
+    let key = '';
+    const boundaries = net.region.boundaries;
+    for (let j = 0; j < boundaries.length; j++) {
+      const target = boundaries[j]!;
+      const feeds = net.feeds[j]!;
+      const l = this.levels.get(target);
+      if (target === swept || !l) key += 's;';
+      else {
+        const keys = (l.keys ??= levelKeys(l));
+        if (feeds.length === 0) key += keys.any;
+        else if ((on !== undefined && feeds.includes(on)) || !l.canLow) key += keys.high;
+        else key += keys.low;
+      }
     }
-    return bands;
+    return key;
   }
 
   private highBand(l: NetLevels): Band {
@@ -284,23 +427,19 @@ export class LevelChain {
     return { nominal: Math.min(l.lowNominal, l.lowWorst), low: Math.min(this.railMin, l.lowNominal), high: l.lowWorst };
   }
 
-  /** The bands of every parameter of a net's region in a case, boundaries included. */
-  bandsOf(net: ChainNet, boundary: ReadonlyMap<string, Band>): Band[] {
-    return net.parameters.map((p) => (p.kind === 'level' ? boundary.get(p.target)! : p));
-  }
-
   /** Solves one case of one net: nominal, and the worst vertex for its sense. */
   solveCase(c: LevelCase, net: ChainNet = this.nets.get(c.net)!): CaseResult {
     const input = net.polarity === 'input';
-    const close = new Set(input && c.on === 1 ? net.switches : []);
-    const { problem, key } = this.problem(net.region, close);
-    const bands = this.bandsOf(net, input ? this.boundaryBands(net, undefined) : this.boundaryBands(net, c.on));
-    const sense: 'min' | 'max' = input ? 'min' : (c.on === undefined) === (net.polarity === 'inverting') ? 'min' : 'max';
+    const on = input ? undefined : c.on;
     const position = input ? c.on : c.on === undefined ? undefined : net.driverPositions[c.on];
-    const cacheKey = `${key}#${position}#${bandKey(net.parameters, bands)}`;
+    const cacheKey = `${net.kind}#${position}#${this.levelKey(net, on)}`;
     const hit = this.results.get(cacheKey);
     if (hit) return hit;
     this.solves++;
+    const close = new Set(input && c.on === 1 ? net.switches : []);
+    const { problem } = this.problem(net.region, close, net.kind);
+    const bands = this.bandsOf(net, on);
+    const sense: 'min' | 'max' = input ? 'min' : (c.on === undefined) === (net.polarity === 'inverting') ? 'min' : 'max';
     let judged = sense;
     if (input) {
       // An input's state is high or low by its nominal level; a high one is judged at its lowest.
@@ -326,19 +465,13 @@ export class LevelChain {
     const region = buildRegion(this.index, targets, extra);
     return { region, parameters: regionParameters(this.design, region, this.scenario) };
   }
+
+  /** A net of the chain with extra parts in its region (fan-out probes): the same drivers and roles, a larger region. */
+  withParts(net: ChainNet, extra: readonly Part[]): ChainNet {
+    return this.netWith(net, buildRegion(this.index, [net.name], extra));
+  }
 }
 
 function roundTo(v: number, step: number): number {
   return Math.round(v / step) * step;
-}
-
-/** A cache key for the boundary bands of a case (exact values); the other bands are fixed by the region's key. */
-export function bandKey(parameters: readonly LocalParameter[], bands: readonly Band[]): string {
-  let s = '';
-  for (let i = 0; i < bands.length; i++) {
-    if (parameters[i]!.kind !== 'level') continue;
-    const b = bands[i]!;
-    s += `${b.nominal},${b.low},${b.high};`;
-  }
-  return s;
 }

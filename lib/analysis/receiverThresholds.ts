@@ -1,7 +1,7 @@
 import type { Receiver } from '../graph/stageGraph.js';
 import type { TransferCurve } from './staticNoiseMargin.js';
 import { unityGainPoints } from './unityGain.js';
-import { bandKey, type LevelChain } from './levelChain.js';
+import type { LevelChain } from './levelChain.js';
 
 /** The input thresholds of one receiving stage, seen from the net that drives it. */
 export interface ReceiverThresholds {
@@ -14,6 +14,8 @@ export interface ReceiverThresholds {
   vilMin: number | undefined;
   vihMax: number | undefined;
   curves: { nominal: TransferCurve; early: TransferCurve; late: TransferCurve };
+  /** Identifies the curves: receivers with equal keys have equal curves. */
+  key: string;
 }
 
 /** Points of each transfer-curve sweep, ends included. */
@@ -33,20 +35,21 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
   const stage = receiver.output === undefined ? undefined : chain.nets.get(receiver.output);
   if (!stage || stage.polarity !== 'inverting' || !chain.levels.get(stage.name)!.canHigh) return undefined;
   const on = stage.drivers.indexOf(receiver.section);
-  const boundary = chain.boundaryBands(stage, on, driving);
-  const bands = chain.bandsOf(stage, boundary);
-  const swept = stage.parameters.findIndex((p) => p.kind === 'level' && p.target === driving);
-  if (swept < 0) return undefined;
-  const { problem, key } = chain.problem(stage.region);
+  const boundary = stage.region.boundaries.indexOf(driving);
+  if (boundary < 0) return undefined;
   const l = chain.levels.get(driving)!;
   const lo = l.canLow ? Math.min(l.lowNominal, l.lowWorst) : chain.railMin;
   const hi = l.canHigh ? Math.max(l.highNominal, l.highWorst) : chain.railMax;
   const swing = Math.max(1, hi - lo);
   const from = Math.max(chain.railMin, lo - 0.25 * swing);
   const to = Math.min(chain.railMax, hi + 0.1 * swing);
-  const memoKey = `thresholds|${key}|${stage.driverPositions[on]}|${swept}|${from}|${to}|${bandKey(stage.parameters, bands)}`;
+  // The stage's class fixes its region and every level around it, the driving net's among them.
+  const memoKey = `thresholds|${chain.classOf(stage.name)}|${stage.driverPositions[on]}|${boundary}`;
   // Kept without names: every receiver of the same kind shares it.
   const found = chain.memo(memoKey, () => {
+    const { problem } = chain.problem(stage.region, undefined, stage.kind);
+    const bands = chain.bandsOf(stage, on, driving);
+    const swept = stage.parameters.length - stage.region.boundaries.length + boundary;
     const nominal = Float64Array.from(bands, (b) => b.nominal);
     nominal[swept] = (lo + hi) / 2;
     const at = problem.probe(nominal);
@@ -76,5 +79,5 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
       curves: curves as ReceiverThresholds['curves'],
     };
   });
-  return found && { stage: stage.name, section: receiver.section, ...found };
+  return found && { stage: stage.name, section: receiver.section, key: memoKey, ...found };
 }

@@ -20,6 +20,9 @@ export interface DesignIndex {
   feedersOf: Map<string, string[]>;
   /** True for a section whose output is its cathode (a follower: output rises with its grid). */
   follower: Set<string>;
+  /** Each part's nets, pin by pin, and its type and values as key text (names left out). */
+  pins: string[][];
+  signatures: string[];
 }
 
 export function indexDesign(design: Design, graph: StageGraph): DesignIndex {
@@ -39,7 +42,26 @@ export function indexDesign(design: Design, graph: StageGraph): DesignIndex {
   for (const n of graph.nets) for (const r of n.receivers) (feedersOf.get(r.section) ?? feedersOf.set(r.section, []).get(r.section)!).push(n.name);
   const follower = new Set<string>();
   for (const s of sections.values()) if (fixed.has(s.plate) && !fixed.has(s.cathode)) follower.add(s.name);
-  return { design, graph, fixed, logic, partsAt, sections, driversOf, feedersOf, follower };
+  const pins = design.parts.map((p) => partPins(p).map(([, net]) => net));
+  return { design, graph, fixed, logic, partsAt, sections, driversOf, feedersOf, follower, pins, signatures: design.parts.map(signature) };
+}
+
+/** A part's type and values as key text: everything about it but its name and wiring. */
+function signature(p: Part): string {
+  switch (p.type) {
+    case 'resistor':
+      return `r${p.ohms}/${p.tol}`;
+    case 'tube':
+      return `t${p.model}${p.screen === undefined ? '' : 's'}`;
+    case 'diode':
+      return `d${p.is}/${p.n}/${p.rs}`;
+    case 'switch':
+      return `s${p.closed ? 1 : 0}${p.momentary ? 'm' : ''}`;
+    case 'drive':
+      return `v${p.volts}/${p.tol}/${p.sourceOhms}`;
+    case 'capacitor':
+      return '';
+  }
 }
 
 /**
@@ -69,18 +91,19 @@ export interface Region {
 /** A region larger than this many internal nodes stops growing (a shared screen or cathode node would pull in the whole design). */
 const MAX_REGION_NODES = 400;
 
-/** Builds the region of `targets`; `extra` parts (already named and wired) are added to it. */
-export function buildRegion(index: DesignIndex, targets: readonly string[], extra: readonly Part[] = []): Region {
+/** Builds the region of `targets`; `extra` parts (already named and wired) are added to it; switches named in `open` are taken open whatever the design says. */
+export function buildRegion(index: DesignIndex, targets: readonly string[], extra: readonly Part[] = [], open?: ReadonlySet<string>): Region {
   const { design, fixed, logic, partsAt } = index;
   const inside = new Set<string>(targets);
   const queue = [...targets];
-  const taken = new Set<number>();
-  while (queue.length > 0) {
-    const net = queue.shift()!;
-    for (const i of partsAt.get(net) ?? []) {
-      if (taken.has(i)) continue;
-      taken.add(i);
-      for (const [, other] of partPins(design.parts[i]!)) {
+  const taken: number[] = [];
+  const seen = new Set<number>();
+  for (let q = 0; q < queue.length; q++) {
+    for (const i of partsAt.get(queue[q]!) ?? []) {
+      if (seen.has(i)) continue;
+      seen.add(i);
+      taken.push(i);
+      for (const other of index.pins[i]!) {
         if (inside.has(other) || fixed.has(other) || logic.has(other)) continue;
         if (inside.size >= MAX_REGION_NODES + targets.length) continue;
         inside.add(other);
@@ -88,7 +111,7 @@ export function buildRegion(index: DesignIndex, targets: readonly string[], extr
       }
     }
   }
-  const parts = [...[...taken].sort((a, b) => a - b).map((i) => design.parts[i]!), ...extra];
+  taken.sort((a, b) => a - b);
   // Relabel nets: targets T0…, boundaries B0…, internal nodes U0…, in order of appearance.
   const label = new Map<string, string>(targets.map((t, i) => [t, `T${i}`]));
   const boundaries: string[] = [];
@@ -108,36 +131,22 @@ export function buildRegion(index: DesignIndex, targets: readonly string[], extr
     }
     return l;
   };
+  const parts: Part[] = [];
+  let key = '';
+  const add = (p: Part, pins: readonly string[], sig: string) => {
+    const part = p.type === 'switch' && open?.has(p.name) ? { ...p, closed: false } : p;
+    parts.push(part);
+    if (p.type === 'capacitor') return;
+    key += `${part === p ? sig : signature(part)}(`;
+    for (const net of pins) key += `${labelOf(net)},`;
+    key += ');';
+  };
+  for (const i of taken) add(design.parts[i]!, index.pins[i]!, index.signatures[i]!);
+  for (const p of extra) add(p, partPins(p).map(([, net]) => net), signature(p));
   const railOf = new Map(design.rails.map((r) => [r.name, r]));
-  const pieces: string[] = [];
-  const modelNames: string[] = [];
-  for (const p of parts) {
-    const pins = partPins(p)
-      .map(([, net]) => labelOf(net))
-      .join(',');
-    switch (p.type) {
-      case 'resistor':
-        pieces.push(`r(${pins})${p.ohms}/${p.tol}`);
-        break;
-      case 'tube':
-        if (!modelNames.includes(p.model)) modelNames.push(p.model);
-        pieces.push(`t(${pins})${p.model}${p.screen === undefined ? '' : 's'}`);
-        break;
-      case 'diode':
-        pieces.push(`d(${pins})${p.is}/${p.n}/${p.rs}`);
-        break;
-      case 'switch':
-        pieces.push(`s(${pins})${p.closed ? 1 : 0}${p.momentary ? 'm' : ''}`);
-        break;
-      case 'drive':
-        pieces.push(`v(${pins})${p.volts}/${p.tol}/${p.sourceOhms}`);
-        break;
-      case 'capacitor':
-        break;
-    }
-  }
   const rails = railNames.map((n) => railOf.get(n)!);
-  for (const r of rails) pieces.push(`R${r.name}=${r.volts}/${r.tol}/${r.sourceOhms}`);
-  const models = design.models.filter((m) => modelNames.includes(m.name));
-  return { targets: [...targets], parts, boundaries, rails, models, key: pieces.join(';') };
+  for (const r of rails) key += `R${r.name}=${r.volts}/${r.tol}/${r.sourceOhms};`;
+  const modelNames = new Set(parts.flatMap((p) => (p.type === 'tube' ? [p.model] : [])));
+  const models = design.models.filter((m) => modelNames.has(m.name));
+  return { targets: [...targets], parts, boundaries, rails, models, key };
 }

@@ -45,6 +45,18 @@ function stampBranch(f: Float64Array, v: Float64Array, slots: Int32Array, o: num
 /** A diode's exponent is linearised above this many n·Vt (or where its current passes 10 A), to keep exp finite. */
 const MAX_DIODE_EXPONENT = 40;
 
+/** Shockley's law i = Is·(e^(v/nVt) − 1) and its conductance, continued linearly above the exponent limit. */
+function diodeLaw(is: number, nvt: number, vd: number): { i: number; g: number } {
+  const u = vd / nvt;
+  const uMax = Math.min(MAX_DIODE_EXPONENT, Math.log(10 / is + 1));
+  if (u > uMax) {
+    const e = Math.exp(uMax);
+    return { i: is * (e * (1 + u - uMax) - 1), g: (is * e) / nvt };
+  }
+  const e = Math.exp(u);
+  return { i: is * (e - 1), g: (is * e) / nvt };
+}
+
 /**
  * The DC system of one compiled circuit: the Jacobian's pattern and its factorisation
  * (symbolic work done once, here), the slot of every stamp, and the buffers of the Newton
@@ -210,19 +222,7 @@ export class DcSystem {
       const k = c.dK[d]!;
       const is = c.dIs[d]!;
       const nvt = c.dNVt[d]!;
-      const u = (volt(a) - volt(k)) / nvt;
-      const uMax = Math.min(MAX_DIODE_EXPONENT, Math.log(10 / is + 1));
-      let i: number;
-      let g: number;
-      if (u > uMax) {
-        const e = Math.exp(uMax);
-        i = is * (e * (1 + u - uMax) - 1);
-        g = (is * e) / nvt;
-      } else {
-        const e = Math.exp(u);
-        i = is * (e - 1);
-        g = (is * e) / nvt;
-      }
+      const { i, g } = diodeLaw(is, nvt, volt(a) - volt(k));
       stampBranch(f, v, dSlots, d * 4, a, k, i, g);
     }
   }
@@ -310,7 +310,6 @@ export class DcSystem {
   sensitivities(x: Float64Array, node: number, s: NewtonSettings): { resistors: Float64Array; fixed: Float64Array; perveance: Float64Array } | undefined {
     const c = this.circuit;
     this.assemble(x, s);
-    const f0 = Float64Array.from(this.f);
     if (!this.lu.factor() || !this.lu.solveTransposed) return undefined;
     const e = new Float64Array(c.n);
     e[node] = 1;
@@ -340,18 +339,57 @@ export class DcSystem {
       const is = screen ? r[R.is]! / pv : 0;
       perveance[t] = -(lam(c.tA[t]!) * ia + (screen ? lam(c.tS[t]!) * is : 0) - lam(c.tK[t]!) * (ia + is));
     }
-    // Fixed voltages: ∂F/∂V_f by a difference of the residual alone (no solve), exact for the linear elements.
+    // Fixed voltages: ∂F/∂V_f from each element's own partials at its fixed terminals, so
+    // the cost does not grow with the number of fixed voltages times the circuit's size.
     const fixed = new Float64Array(c.fixedVolts.length);
-    for (let k = 0; k < fixed.length; k++) {
-      const h = 1e-6 * Math.max(1, Math.abs(fixedVolts[k]!));
-      fixedVolts[k] = fixedVolts[k]! + h;
-      this.assemble(x, s);
-      fixedVolts[k] = fixedVolts[k]! - h;
-      let dot = 0;
-      for (let i = 0; i < c.n; i++) dot += lambda[i]! * (this.f[i]! - f0[i]!);
-      fixed[k] = -dot / h;
+    const scale = s.sourceScale;
+    for (let k = 0; k < c.gA.length; k++) {
+      const a = c.gA[k]!;
+      const b = c.gB[k]!;
+      const g = c.gS[k]!;
+      if (b < 0 && a >= 0) fixed[-1 - b]! += lambda[a]! * g * scale;
+      if (a < 0 && b >= 0) fixed[-1 - a]! += lambda[b]! * g * scale;
+    }
+    for (let t = 0; t < c.tA.length; t++) {
+      const ta = c.tA[t]!;
+      const tg = c.tG[t]!;
+      const tk = c.tK[t]!;
+      const screen = c.hasScreen[t] === 1;
+      const ts = screen ? c.tS[t]! : -1;
+      if (ta >= 0 && tg >= 0 && tk >= 0 && (!screen || ts >= 0)) continue;
+      const vk = volt(tk);
+      evaluateTube(c.tubeParams, t * P.size, volt(tg) - vk, volt(ta) - vk, screen ? volt(ts) - vk : 0, r, 0);
+      const iaVa = r[R.iaVa]!;
+      const iaVg = r[R.iaVg]!;
+      const iaVs = screen ? r[R.iaVs]! : 0;
+      const igVg = r[R.igVg]!;
+      const isVa = screen ? r[R.isVa]! : 0;
+      const isVg = screen ? r[R.isVg]! : 0;
+      const isVs = screen ? r[R.isVs]! : 0;
+      // λ·∂F/∂V_T for each terminal T: plate, grid and screen currents enter the tube, the cathode returns them.
+      const la = lam(ta);
+      const lg = lam(tg);
+      const ls = screen ? lam(ts) : 0;
+      const lk = lam(tk);
+      const dot = (dia: number, dig: number, dis: number) => la * dia + lg * dig + ls * dis - lk * (dia + dig + dis);
+      if (ta < 0) fixed[-1 - ta]! -= dot(iaVa, 0, isVa) * scale;
+      if (tg < 0) fixed[-1 - tg]! -= dot(iaVg, igVg, isVg) * scale;
+      if (screen && ts < 0) fixed[-1 - ts]! -= dot(iaVs, 0, isVs) * scale;
+      if (tk < 0) fixed[-1 - tk]! -= dot(-(iaVa + iaVg + iaVs), -igVg, -(isVa + isVg + isVs)) * scale;
+    }
+    for (let d = 0; d < c.dA.length; d++) {
+      const a = c.dA[d]!;
+      const k = c.dK[d]!;
+      if (a >= 0 && k >= 0) continue;
+      const g = this.diodeConductance(d, volt(a) - volt(k));
+      if (a < 0) fixed[-1 - a]! -= (lam(a) - lam(k)) * g * scale;
+      if (k < 0) fixed[-1 - k]! += (lam(a) - lam(k)) * g * scale;
     }
     return { resistors, fixed, perveance };
+  }
+
+  private diodeConductance(d: number, vd: number): number {
+    return diodeLaw(this.circuit.dIs[d]!, this.circuit.dNVt[d]!, vd).g;
   }
 
   /** One Newton iteration's linear algebra at `x` (assemble, factor, solve) without moving `x`: for benchmarks. */
