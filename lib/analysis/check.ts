@@ -118,8 +118,13 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   const vihs = all.flatMap((t) => (t.vihMax === undefined ? [] : [t.vihMax]));
   const designWide = vils.length > 0 && vihs.length > 0 ? { vil: Math.min(...vils), vih: Math.max(...vihs) } : undefined;
   const load = standardLoad(chain);
+  // A receiving stage whose gain never reaches 1 is its own failure, not the driving net's.
+  const flatInputs = new Map<string, string[]>();
+  for (const [driving, list] of thresholds) {
+    for (const r of list) if (r.vilMin === undefined || r.vihMax === undefined) (flatInputs.get(r.stage) ?? flatInputs.set(r.stage, []).get(r.stage)!).push(driving);
+  }
 
-  const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, required, load, designWide));
+  const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, flatInputs, required, load, designWide));
   nets.sort((a, b) => (a.status === 'unchecked') !== (b.status === 'unchecked') ? (a.status === 'unchecked' ? 1 : -1) : a.slack - b.slack || compareNames(a.name, b.name));
   // The parameters behind the weakness, for every failing net and the three weakest.
   nets.forEach((n, i) => {
@@ -141,7 +146,16 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   };
 }
 
-function judgeNet(chain: LevelChain, name: string, fanout: number, receivers: ReceiverMargin[], required: number, load: StandardLoad | undefined, designWide: { vil: number; vih: number } | undefined): NetCheck {
+function judgeNet(
+  chain: LevelChain,
+  name: string,
+  fanout: number,
+  receivers: ReceiverMargin[],
+  flatInputs: ReadonlyMap<string, string[]>,
+  required: number,
+  load: StandardLoad | undefined,
+  designWide: { vil: number; vih: number } | undefined,
+): NetCheck {
   const net = chain.nets.get(name)!;
   const l = chain.levels.get(name)!;
   const thresholdVolts = logicThreshold(chain.design, name);
@@ -173,7 +187,6 @@ function judgeNet(chain: LevelChain, name: string, fanout: number, receivers: Re
   const low = l.canLow ? { nominal: l.lowNominal, worst: l.lowWorst } : undefined;
   const vihs = receivers.flatMap((r) => (r.vihMax === undefined ? [] : [r.vihMax]));
   const vils = receivers.flatMap((r) => (r.vilMin === undefined ? [] : [r.vilMin]));
-  for (const r of receivers) if (r.vihMax === undefined || r.vilMin === undefined) reasons.push(`stage ${r.stage} has a gain below 1 at its input from ${name}: it cannot restore levels`);
   const vihMax = vihs.length ? Math.max(...vihs) : undefined;
   const vilMin = vils.length ? Math.min(...vils) : undefined;
   const margin = {
@@ -184,11 +197,12 @@ function judgeNet(chain: LevelChain, name: string, fanout: number, receivers: Re
   const drive = net.polarity === 'input' ? undefined : driveMargin(chain, name);
   const v = (x: number) => `${x.toFixed(2)} V`;
   if (high && low && high.worst <= low.worst) reasons.push(`its high and low levels collapse (worst high ${v(high.worst)}, worst low ${v(low.worst)}): it cannot hold a state`);
+  if (cutoff && cutoff.volts < 0) reasons.push(`${cutoff.section} is not cut off while ${name} is high: its grid sits at ${v(cutoff.vgk)}, above its cutoff at ${v(cutoff.reference)}`);
   if (high && high.worst <= thresholdVolts) reasons.push(`its worst high level ${v(high.worst)} does not reach the logic threshold ${v(thresholdVolts)}`);
   if (low && low.worst >= thresholdVolts) reasons.push(`its worst low level ${v(low.worst)} is not below the logic threshold ${v(thresholdVolts)}: its drivers cannot pull it low`);
   if (margin.high !== undefined && margin.high < required) reasons.push(`high noise margin ${v(margin.high)} is below the required ${v(required)} (worst high ${v(high!.worst)} against VIH ${v(vihMax!)})`);
   if (margin.low !== undefined && margin.low < required) reasons.push(`low noise margin ${v(margin.low)} is below the required ${v(required)} (worst low ${v(low!.worst)} against VIL ${v(vilMin!)})`);
-  if (cutoff && cutoff.volts < 0) reasons.push(`${cutoff.section} is not cut off while ${name} is high: its grid sits at ${v(cutoff.vgk)}, above its cutoff at ${v(cutoff.reference)}`);
+  for (const from of flatInputs.get(name) ?? []) reasons.push(`its gain from ${from} never reaches 1: it cannot restore the levels it is given`);
   if (!chain.settled) reasons.push('the worst-case levels around its loop did not settle');
   const limits: { what: 'high' | 'low' | 'cutoff'; slack: number }[] = [];
   if (margin.high !== undefined) limits.push({ what: 'high', slack: margin.high - required });

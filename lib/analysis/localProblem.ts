@@ -20,7 +20,7 @@ export interface LocalParameter extends Band {
 }
 
 /** A cathode interface band starts here rather than at 0 Ω, which no conductance can stand for. */
-export const NO_INTERFACE_OHMS = 1;
+export const NO_INTERFACE_OHMS = 1e-3;
 
 /**
  * The parameters of a region in their fixed order (resistors, drives, sections'

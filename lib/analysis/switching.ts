@@ -25,7 +25,7 @@ export interface TriggerAnswer {
 }
 
 /** Steps of the input's rise from its quiet to its asserted level. */
-const RISE_STEPS = 48;
+const RISE_STEPS = 24;
 
 /**
  * Does a latch switch when its set or reset input is asserted? The input net is held by a

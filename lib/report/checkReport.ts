@@ -143,7 +143,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string): str
   out.push(`Nets, weakest first (${r.nets.length})`);
   out.push(
     ...table(
-      ['  net', 'driver', 'fan', 'high', 'low', 'NM_H', 'NM_L', 'cutoff', 'drive', 'more', 'status'],
+      ['  net', 'driver', 'fan', 'high', 'low', 'NM_H', 'NM_L', 'cutoff', 'more', 'status'],
       r.nets.map((n) => [
         '  ' + n.name,
         n.kind === 'input' ? 'input' : `${n.driver.split(' ')[0]} sect`,
@@ -153,14 +153,14 @@ export function renderCheck(design: Design, r: CheckResult, source: string): str
         v(n.margin.high),
         v(n.margin.low),
         v(n.cutoffMargin?.volts),
-        v(n.driveMargin?.volts),
         n.headroom === undefined ? '—' : n.headroom >= MAX_EXTRA_LOADS ? `${MAX_EXTRA_LOADS}+` : String(n.headroom),
         statusText(n),
       ]),
-      [16, 6, 3, 6, 6, 6, 6, 6, 6, 4],
+      [16, 6, 3, 7, 7, 7, 7, 6, 4],
     ),
   );
-  out.push('  (levels and margins in volts, worst case; "more": extra standard loads it can take)');
+  out.push('  (volts, worst case; "more": extra standard loads it can take; drive margins');
+  out.push('  are in the JSON report)');
   if (r.latches.length > 0) {
     out.push('');
     out.push(`Latches (${r.latches.length})`);

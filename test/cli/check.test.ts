@@ -1,0 +1,85 @@
+import { describe, expect, it } from 'vitest';
+import { demoDesigns } from '../helpers.js';
+import { runCommand as run } from '../cliRun.js';
+
+describe('tubemargin check', () => {
+  it('fails the latch whose pull-downs return to 0 V, and says it cannot hold and its sections are not cut off (common practice, no source)', async () => {
+    const r = await run(['check', 'docs/examples/grounded-latch.tube']);
+    expect(r.code).toBe(1);
+    expect(r.out).toMatch(/^FAIL/m);
+    expect(r.out).toContain('cannot hold a state');
+    expect(r.out).toMatch(/q\.v1 is not cut off while q is high/);
+    expect(r.out).toMatch(/\n {2}nq ↔ q +NO /);
+  });
+
+  it('gives every demo design a verdict within 80 columns, naming the weakest nets and what makes them weak', async () => {
+    for (const file of demoDesigns()) {
+      const r = await run(['check', file]);
+      expect([0, 1]).toContain(r.code);
+      expect(r.out).toMatch(/^(PASS|FAIL): /m);
+      expect(r.out).toContain('The weakest nets, and why');
+      expect(r.out).toMatch(/comes from:\n {5}\S/);
+      for (const line of r.out.split('\n')) expect(line.length, line).toBeLessThanOrEqual(80);
+    }
+  });
+
+  it('writes tubemargin.report/1 JSON with the verdict, the required margin, and per net its levels, margins and status', async () => {
+    const r = await run(['check', 'nets/nor-adder.tube', '--json']);
+    const json = JSON.parse(r.out);
+    expect(json.schema).toBe('tubemargin.report/1');
+    expect(['pass', 'fail']).toContain(json.verdict);
+    expect(json.requiredMargin).toBe(1.5);
+    const x1 = json.nets.find((n: { name: string }) => n.name === 'x1');
+    expect(Object.keys(x1)).toEqual(expect.arrayContaining(['name', 'driver', 'fanout', 'high', 'low', 'margin', 'cutoffMargin', 'driveMargin', 'status']));
+    expect(x1.high.worst).toBeLessThan(x1.high.nominal);
+    expect(x1.low.worst).toBeGreaterThan(x1.low.nominal);
+    expect(r.code).toBe(json.verdict === 'pass' ? 0 : 1);
+  });
+
+  it('takes the required margin from --margin over the design setting, and the exit code follows the verdict', async () => {
+    const strict = JSON.parse((await run(['check', 'nets/nor-adder.tube', '--json', '--margin', '5'])).out);
+    const loose = await run(['check', 'nets/nor-adder.tube', '--json', '--margin', '0.1V']);
+    expect(strict.requiredMargin).toBe(5);
+    expect(strict.verdict).toBe('fail');
+    expect(JSON.parse(loose.out).requiredMargin).toBe(0.1);
+    expect(loose.code).toBe(JSON.parse(loose.out).verdict === 'pass' ? 0 : 1);
+  });
+
+  it('lists latches with whether they hold, their SNM and whether each set and reset input switches them', async () => {
+    const r = await run(['check', 'nets/irrigation-sequencer.tube', '--json']);
+    const json = JSON.parse(r.out);
+    expect(json.latches).toHaveLength(4);
+    for (const l of json.latches) {
+      expect(l.holds).toBe(true);
+      expect(l.snm).toBeGreaterThan(0);
+      expect(l.switches).toBe(true);
+      expect(l.triggerMargin).toBeGreaterThan(0);
+    }
+  });
+
+  it('is harder on aged tubes: the end-of-life scenario never raises a worst high or lowers a worst low', async () => {
+    const fresh = JSON.parse((await run(['check', 'nets/nor-adder.tube', '--json'])).out);
+    const old = JSON.parse((await run(['check', 'nets/nor-adder.tube', '--json', '--age', 'end-of-life'])).out);
+    expect(old.ageing.scenario).toBe('end-of-life');
+    for (const n of old.nets) {
+      const f = fresh.nets.find((x: { name: string }) => x.name === n.name);
+      if (n.high) expect(n.high.worst).toBeLessThanOrEqual(f.high.worst + 1e-6);
+      if (n.low) expect(n.low.worst).toBeGreaterThanOrEqual(f.low.worst - 1e-6);
+    }
+  });
+
+  it('refuses a bad --margin or --age with exit code 2 and no stack trace', async () => {
+    for (const args of [['--margin', 'wide'], ['--age', 'ancient']]) {
+      const r = await run(['check', 'nets/nor-adder.tube', ...args]);
+      expect(r.code).toBe(2);
+      expect(r.err).toMatch(/^error: --(margin|age) takes/);
+      expect(r.err).not.toContain('    at ');
+    }
+  });
+
+  it('shows the safety cautions for a design whose rails exceed 60 V', async () => {
+    const r = await run(['check', 'nets/crate-tally.tube']);
+    expect(r.out).toContain('CAUTION: hv (up to 158 V), neg (up to 78.8 V), LINE_A (up to 150 V), LINE_B (up');
+    expect(r.out).toContain('licensed person');
+  });
+});
