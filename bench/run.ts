@@ -2,6 +2,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { buildStageGraph, loadDesign } from '../lib/index.js';
 import { generateRegister } from './generate.js';
 import { againstDense, benchSizes, iterationAgainstModels } from './solverBench.js';
+import { benchCheck } from './checkBench.js';
 
 /**
  * `npm run bench`: measures, in one run, what the goals in docs/PERFORMANCE.md are about,
@@ -80,6 +81,22 @@ const solverTable = [
 ].join('\n');
 process.stdout.write(solverTable + '\n');
 
+// ---- check ---------------------------------------------------------------------------
+const checkRows = benchCheck([500, 2000, 8000]);
+const at2000 = checkRows.find((r) => r.stages === 2000)!;
+const checkExp = Math.log(checkRows[2]!.checkMs / checkRows[0]!.checkMs) / Math.log(checkRows[2]!.stages / checkRows[0]!.stages);
+const checkTable = [
+  `Measured ${new Date().toISOString().slice(0, 10)} on ${process.platform}/${process.arch}, Node ${process.version}, by \`npm run bench\`.`,
+  '',
+  '| stages | nets | check | one nominal full solve | check ÷ solve | local solves | read + stage graph |',
+  '|---:|---:|---:|---:|---:|---:|---:|',
+  ...checkRows.map((r) => `| ${r.stages.toLocaleString('en')} | ${r.nets.toLocaleString('en')} | ${r.checkMs.toFixed(0)} ms | ${r.solveMs.toFixed(0)} ms | ${(r.checkMs / r.solveMs).toFixed(1)}× | ${r.localSolves} | ${r.frontMs.toFixed(0)} ms |`),
+  '',
+  `- At 2,000 stages: check ${at2000.checkMs.toFixed(0)} ms (goal ≤ 250 ms), **${(at2000.checkMs / at2000.solveMs).toFixed(1)}×** one nominal full-circuit solve (goal ≤ 10×); with reading the text and building the stage graph, as the command does, ${(at2000.checkMs + at2000.frontMs).toFixed(0)} ms.`,
+  `- Scaling exponent of check, ${checkRows[0]!.stages} → ${checkRows[2]!.stages} stages: ${checkExp.toFixed(2)}; local solves stay at ${checkRows.map((r) => r.localSolves).join(', ')}: one per class of identical nets, not per net.`,
+].join('\n');
+process.stdout.write(checkTable + '\n');
+
 if (process.argv.includes('--write')) {
   const path = new URL('../../docs/PERFORMANCE.md', import.meta.url);
   let doc = readFileSync(path, 'utf8');
@@ -93,6 +110,7 @@ if (process.argv.includes('--write')) {
   };
   put('front-end', table);
   put('solver', solverTable);
+  put('check', checkTable);
   writeFileSync(path, doc);
   process.stdout.write('docs/PERFORMANCE.md updated\n');
 }

@@ -61,6 +61,8 @@ export interface NetCheck {
   reasons: string[];
   /** The level that limits the net, and the parameters whose corners make it so, largest first (given for failing nets and the three weakest). */
   weakest: { what: 'high' | 'low' | 'cutoff'; causes: Cause[] } | undefined;
+  /** Nets of one class are the same problem all the way out and have the same figures. */
+  classId: number;
   /** Worst slack against the requirement (volts): the smaller margin minus the required one, or the cutoff margin; sorts nets weakest first. */
   slack: number;
 }
@@ -126,10 +128,11 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
 
   const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, flatInputs, required, load, designWide));
   nets.sort((a, b) => (a.status === 'unchecked') !== (b.status === 'unchecked') ? (a.status === 'unchecked' ? 1 : -1) : a.slack - b.slack || compareNames(a.name, b.name));
-  // The parameters behind the weakness, for every failing net and the three weakest.
-  nets.forEach((n, i) => {
-    if (n.weakest && (n.status === 'fail' || i < 3)) n.weakest.causes = causesOf(chain, chain.nets.get(n.name)!, n.weakest.what);
-  });
+  // The parameters behind the weakness, for every failing net and the three weakest classes.
+  const weakestClasses = new Set(nets.map((n) => n.classId).filter((c, i, all) => all.indexOf(c) === i).slice(0, 3));
+  for (const n of nets) {
+    if (n.weakest && (n.status === 'fail' || weakestClasses.has(n.classId))) n.weakest.causes = causesOf(chain, chain.nets.get(n.name)!, n.weakest.what);
+  }
   const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => latchCheck(chain, l.nets as [string, string]));
   const failed = nets.some((n) => n.status === 'fail') || latches.some((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined)) || !chain.settled;
   return {
@@ -162,6 +165,7 @@ function judgeNet(
   const reasons: string[] = [];
   const base = {
     name,
+    classId: chain.classOf(name),
     kind: net.polarity === 'input' ? ('input' as const) : ('stage' as const),
     driver: net.polarity === 'input' ? 'input' : `${net.drivers.length} section${net.drivers.length === 1 ? '' : 's'}`,
     fanout,
@@ -200,8 +204,10 @@ function judgeNet(
   if (cutoff && cutoff.volts < 0) reasons.push(`${cutoff.section} is not cut off while ${name} is high: its grid sits at ${v(cutoff.vgk)}, above its cutoff at ${v(cutoff.reference)}`);
   if (high && high.worst <= thresholdVolts) reasons.push(`its worst high level ${v(high.worst)} does not reach the logic threshold ${v(thresholdVolts)}`);
   if (low && low.worst >= thresholdVolts) reasons.push(`its worst low level ${v(low.worst)} is not below the logic threshold ${v(thresholdVolts)}: its drivers cannot pull it low`);
-  if (margin.high !== undefined && margin.high < required) reasons.push(`high noise margin ${v(margin.high)} is below the required ${v(required)} (worst high ${v(high!.worst)} against VIH ${v(vihMax!)})`);
-  if (margin.low !== undefined && margin.low < required) reasons.push(`low noise margin ${v(margin.low)} is below the required ${v(required)} (worst low ${v(low!.worst)} against VIL ${v(vilMin!)})`);
+  // A margin just short of the requirement is shown to the millivolt, so it does not read as equal.
+  const short = (x: number) => `${x.toFixed(required - x < 0.005 ? 3 : 2)} V`;
+  if (margin.high !== undefined && margin.high < required) reasons.push(`high noise margin ${short(margin.high)} is below the required ${v(required)} (worst high ${v(high!.worst)} against VIH ${v(vihMax!)})`);
+  if (margin.low !== undefined && margin.low < required) reasons.push(`low noise margin ${short(margin.low)} is below the required ${v(required)} (worst low ${v(low!.worst)} against VIL ${v(vilMin!)})`);
   for (const from of flatInputs.get(name) ?? []) reasons.push(`its gain from ${from} never reaches 1: it cannot restore the levels it is given`);
   if (!chain.settled) reasons.push('the worst-case levels around its loop did not settle');
   const limits: { what: 'high' | 'low' | 'cutoff'; slack: number }[] = [];

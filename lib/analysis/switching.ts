@@ -24,23 +24,23 @@ export interface TriggerAnswer {
   triggerMargin: number | undefined;
 }
 
-/** Steps of the input's rise from its quiet to its asserted level. */
+/** The input's rise is taken in steps of at most this share of the way from quiet to asserted. */
 const RISE_STEPS = 24;
+/** The trigger threshold is found to this step (volts). */
+const THRESHOLD_STEP = 1e-3;
 
 /**
  * Does a latch switch when its set or reset input is asserted? The input net is held by a
  * stiff source; the latch is put in the state it must leave (`leaves` high) at the quiet
- * level, and the input is then raised step by step towards the asserted level, each solve
- * starting from the last with nothing pinned, so the latch stays on the old state's branch
- * for as long as that state exists, as it would while the input rises slowly. Where the
- * branch ends (the old state reads low, or Newton finds no solution near it) the level is
- * refined by bisection, each probe again continued from the last level that held: the
- * trigger threshold; the trigger margin is the asserted level's excess over it. If the
- * old state survives to the asserted level, the input is too weak.
- *
- * Continuation rather than a fresh pinned start at each level: near the threshold a
- * pinned start can fail to converge on a state that barely exists, which would be
- * mistaken for a state that holds.
+ * level, and the input is then raised towards the asserted level by natural-parameter
+ * continuation: each solve starts from the last with nothing pinned, so the latch stays
+ * on the old state's branch for as long as that state exists, as it would while the input
+ * rises slowly. A step after which the old state is gone (it reads low, or Newton found
+ * no solution) is not trusted at once: Newton may have jumped off a branch that goes on.
+ * It is taken again from the last level that held, at half the size, until the step is
+ * below 1 mV: the branch ends there, at the trigger threshold. The trigger margin is the
+ * asserted level's excess over it. If the old state survives to the asserted level, the
+ * input is too weak.
  *
  * Example: a pentode latch whose set input is a third section on one side switches when
  * the set line rises past a few volts; with the set line asserted at 24 V the margin is
@@ -51,26 +51,25 @@ export function triggerMargin(design: Design, q: TriggerQuestion, variation?: Re
   const old = (op: OperatingPoint | undefined) => op !== undefined && op.nodes.get(q.leaves)! > logicThreshold(design, q.leaves);
   const start = held.solveAt(q.quiet, { hints: [{ net: q.leaves, high: true }] });
   if (!old(start)) return { switches: true, threshold: q.quiet, triggerMargin: Math.abs(q.asserted - q.quiet) };
-  let holds = q.quiet;
+  const direction = Math.sign(q.asserted - q.quiet);
+  const longest = Math.abs(q.asserted - q.quiet) / RISE_STEPS;
+  let level = q.quiet;
   let last = start!;
-  for (let k = 1; k <= RISE_STEPS; k++) {
-    const level = q.quiet + ((q.asserted - q.quiet) * k) / RISE_STEPS;
-    const op = held.solveAt(level, { start: last.x });
-    if (!old(op)) {
-      let gone = level;
-      while (Math.abs(gone - holds) > 1e-3) {
-        const mid = (holds + gone) / 2;
-        const probe = held.solveAt(mid, { start: last.x });
-        if (old(probe)) {
-          holds = mid;
-          last = probe!;
-        } else gone = mid;
-      }
-      const threshold = (holds + gone) / 2;
-      return { switches: true, threshold, triggerMargin: Math.sign(q.asserted - q.quiet) * (q.asserted - threshold) };
+  let step = longest;
+  while (direction * (q.asserted - level) > 0) {
+    const next = direction > 0 ? Math.min(q.asserted, level + step) : Math.max(q.asserted, level - step);
+    const op = held.solveAt(next, { start: last.x });
+    if (old(op)) {
+      level = next;
+      last = op!;
+      step = Math.min(longest, step * 2);
+      continue;
     }
-    holds = level;
-    last = op!;
+    step /= 2;
+    if (step < THRESHOLD_STEP) {
+      const threshold = level + direction * step;
+      return { switches: true, threshold, triggerMargin: direction * (q.asserted - threshold) };
+    }
   }
   return { switches: false, threshold: undefined, triggerMargin: undefined };
 }

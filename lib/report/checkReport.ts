@@ -2,7 +2,7 @@ import type { CheckResult, Cause, NetCheck } from '../analysis/check.js';
 import { MAX_EXTRA_LOADS } from '../analysis/fanoutHeadroom.js';
 import { CUTOFF_FRACTION } from '../analysis/gridMargins.js';
 import type { Design } from '../design/model.js';
-import { formatSI, table, wrap } from './format.js';
+import { cutList, formatSI, table, wrap } from './format.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
 
@@ -133,10 +133,12 @@ export function renderCheck(design: Design, r: CheckResult, source: string): str
   const failing = r.nets.filter((n) => n.status === 'fail');
   const badLatches = r.latches.filter((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined));
   out.push(`${design.title || '(untitled design)'} — ${source}`);
+  const latchWords = r.latches.length > 0 ? ' and every latch holds and switches' : '';
+  const failWords = [`${failing.length} of ${r.nets.length} nets`, ...(r.latches.length > 0 ? [`${badLatches.length} of ${r.latches.length} latches`] : [])].join(' and ');
   const verdict =
     r.verdict === 'pass'
-      ? `PASS: every net keeps ${v(r.requiredMargin)} V of margin and every latch holds and switches, in worst case (${r.scenario.name}: ${r.scenario.summary}).`
-      : `FAIL: ${failing.length} of ${r.nets.length} nets and ${badLatches.length} of ${r.latches.length} latches fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.`;
+      ? `PASS: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}).`
+      : `FAIL: ${failWords} fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.`;
   out.push(...wrap(verdict, REPORT_COLUMNS));
   if (!r.settled) out.push(...wrap(`The worst-case levels around a loop did not settle in ${r.rounds} rounds.`, REPORT_COLUMNS));
   out.push('');
@@ -182,7 +184,9 @@ export function renderCheck(design: Design, r: CheckResult, source: string): str
     );
     out.push('  (SNM and trigger margin in volts, worst case)');
   }
-  const explained = r.nets.filter((n) => n.status !== 'unchecked').slice(0, 3);
+  // The three weakest, one per class: nets alike are named with the first.
+  const judged = r.nets.filter((n) => n.status !== 'unchecked');
+  const explained = judged.filter((n, i) => judged.findIndex((m) => m.classId === n.classId) === i).slice(0, 3);
   if (explained.length > 0) {
     out.push('');
     out.push('The weakest nets, and why');
@@ -195,6 +199,8 @@ export function renderCheck(design: Design, r: CheckResult, source: string): str
             ? `worst low ${v(n.low?.worst)} V, NM_L ${v(n.margin.low)} V`
             : `worst high ${v(n.high?.worst)} V, NM_H ${v(n.margin.high)} V`);
       out.push(...indented(`${k + 1}. ${n.name} (${statusText(n)}): ${summary}`, '', '     '));
+      const alike = judged.filter((m) => m.classId === n.classId && m !== n).map((m) => m.name);
+      if (alike.length > 0) out.push(`   alike: ${cutList(alike, REPORT_COLUMNS - 10)}`);
       for (const reason of n.reasons.slice(1)) out.push(...indented(`also: ${reason}`, '   ', '     '));
       if (n.weakest && n.weakest.causes.length > 0) {
         out.push(`   its worst ${n.weakest.what === 'low' ? 'low level' : 'high level'} comes from:`);

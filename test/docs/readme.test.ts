@@ -24,7 +24,7 @@ function quotedRuns(): { command: string; shown: string[] }[] {
 describe('the README', () => {
   it('opens with the job, then exactly two set-up commands: the demo and the tests', () => {
     const setup = /## Set up\n\n```sh\n([\s\S]*?)```/.exec(README)?.[1]?.trim().split('\n');
-    expect(setup).toEqual(['npm ci && ./bin/tubemargin.js show nets/irrigation-sequencer.tube', 'npm test']);
+    expect(setup).toEqual(['npm ci && ./bin/tubemargin.js check nets/crate-tally.tube', 'npm test']);
     expect(README.indexOf('## Set up')).toBeGreaterThan(README.indexOf('vacuum tubes'));
   });
 
@@ -46,7 +46,7 @@ describe('the README', () => {
   it('quotes design text that is really in the demo files (spacing aside)', () => {
     const squash = (t: string) => t.replace(/[ \t]+/g, ' ');
     const quoted = [
-      { file: 'nets/nor-adder.tube', block: README.slice(README.indexOf('## A tour'), README.indexOf('$ tubemargin show nets/nor-adder.tube')) },
+      { file: 'nets/nor-adder.tube', block: README.slice(README.indexOf('## A tour'), README.indexOf('$ tubemargin check nets/nor-adder.tube')) },
       { file: 'nets/irrigation-sequencer.tube', block: README.slice(README.indexOf('Blocks make repeated circuits'), README.indexOf('and `show` finds')) },
     ];
     for (const { file, block } of quoted) {

@@ -1,0 +1,50 @@
+import { buildStageGraph, checkMargins, loadDesign, solveOperatingPoint } from '../lib/index.js';
+import { generateRegister } from './generate.js';
+
+function median(xs: number[]): number {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.floor(s.length / 2)] as number;
+}
+
+export interface CheckBenchRow {
+  stages: number;
+  nets: number;
+  /** `checkMargins` on the loaded design and its stage graph (ms, median). */
+  checkMs: number;
+  /** One nominal full-circuit DC solve from scratch on the same design and graph: compile, symbolic analysis, Newton (ms, median). */
+  solveMs: number;
+  /** Reading the text and building the stage graph, which the command adds to both (ms, median). */
+  frontMs: number;
+  localSolves: number;
+  verdict: string;
+}
+
+/**
+ * `check` against one nominal full-circuit solve of the same generated register, in one
+ * run: each measured `runs` times after a warm-up, medians reported.
+ */
+export function benchCheck(sizes: number[], runs = 7): CheckBenchRow[] {
+  return sizes.map((stages) => {
+    const text = generateRegister(stages);
+    const design = loadDesign('generated.tube', text).design!;
+    const graph = buildStageGraph(design);
+    const checks: number[] = [];
+    const solves: number[] = [];
+    const fronts: number[] = [];
+    let last = checkMargins(design, { graph });
+    solveOperatingPoint(design, { graph });
+    for (let i = 0; i < runs; i++) {
+      let t0 = performance.now();
+      last = checkMargins(design, { graph });
+      checks.push(performance.now() - t0);
+      t0 = performance.now();
+      const op = solveOperatingPoint(design, { graph });
+      solves.push(performance.now() - t0);
+      if (!('nodes' in op) || !op.converged) throw new Error('the generated design did not solve');
+      t0 = performance.now();
+      buildStageGraph(loadDesign('generated.tube', text).design!);
+      fronts.push(performance.now() - t0);
+    }
+    return { stages, nets: graph.nets.length, checkMs: median(checks), solveMs: median(solves), frontMs: median(fronts), localSolves: last.localSolves, verdict: last.verdict };
+  });
+}
