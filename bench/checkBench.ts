@@ -31,11 +31,16 @@ export function benchCheck(sizes: number[], runs = 7): CheckBenchRow[] {
     const checks: number[] = [];
     const solves: number[] = [];
     const fronts: number[] = [];
-    let last = checkMargins(design, { graph });
+    const run = () => {
+      const r = checkMargins(design, { graph });
+      if (!('verdict' in r)) throw new Error('the generated design does not compile');
+      return r;
+    };
+    let last = run();
     solveOperatingPoint(design, { graph });
     for (let i = 0; i < runs; i++) {
       let t0 = performance.now();
-      last = checkMargins(design, { graph });
+      last = run();
       checks.push(performance.now() - t0);
       t0 = performance.now();
       const op = solveOperatingPoint(design, { graph });

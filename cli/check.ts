@@ -1,7 +1,7 @@
 import { AGEING_SCENARIOS, checkMargins, findScenario } from '../lib/index.js';
 import { checkToJson, renderCheck } from '../lib/report/checkReport.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, type GlobalOptions } from './load.js';
+import { EXIT, loadForCommand, report, type GlobalOptions } from './load.js';
 import { chalkFor } from './style.js';
 
 export const CHECK_SUMMARY = 'worst-case levels, noise margins, latches and fan-out: pass or fail';
@@ -43,6 +43,10 @@ export function runCheck(file: string, options: CheckCliOptions, io: CliIo): num
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
   const result = checkMargins(loaded.design, { requiredMargin: margin, scenario });
+  if (!('verdict' in result)) {
+    report(result.diagnostics, loaded.sources, io);
+    return EXIT.badInput;
+  }
   if (options.json) io.stdout(JSON.stringify(checkToJson(loaded.design, result), null, 2) + '\n');
   else {
     const text = renderCheck(loaded.design, result, file);

@@ -1,7 +1,7 @@
 import { readFileSync, readdirSync } from 'node:fs';
 import { dirname, join, normalize } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { loadDesign, type Design, type Diagnostic, type LoadedDesign, type SourceLoader } from '../lib/index.js';
+import { checkMargins, loadDesign, type CheckOptions, type CheckResult, type Design, type Diagnostic, type LoadedDesign, type SourceLoader } from '../lib/index.js';
 
 export const ROOT = normalize(join(dirname(fileURLToPath(import.meta.url)), '..'));
 export const NETS = join(ROOT, 'nets');
@@ -61,4 +61,11 @@ export function demoDesigns(): string[] {
 /** A design without source spans, for comparing models read from different sources. */
 export function withoutSpans<T>(value: T): T {
   return JSON.parse(JSON.stringify(value, (k, v) => (k === 'span' ? undefined : v)));
+}
+
+/** `checkMargins` on a design that must compile: its result, or the test fails. */
+export function checkOf(d: Design, options: CheckOptions = {}): CheckResult {
+  const r = checkMargins(d, options);
+  if (!('verdict' in r)) throw new Error('the design does not compile: ' + r.diagnostics.map((x) => x.message).join('; '));
+  return r;
 }

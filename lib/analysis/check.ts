@@ -1,6 +1,8 @@
 import type { Design } from '../design/model.js';
 import { buildStageGraph, compareNames, type StageGraph } from '../graph/stageGraph.js';
+import { compileCircuit } from '../solve/circuit.js';
 import { logicThreshold } from '../solve/operatingPoint.js';
+import type { Diagnostic } from '../source/diagnostic.js';
 import { AGEING_SCENARIOS, type AgeingScenario } from './ageing.js';
 import { fanoutHeadroom, MAX_EXTRA_LOADS, standardLoad, type StandardLoad } from './fanoutHeadroom.js';
 import { cutoffMargin, driveMargin, type GridMargin } from './gridMargins.js';
@@ -97,7 +99,10 @@ export interface CheckResult {
  * −12 V passes with several volts of margin; the same latch with its pull-downs to 0 V
  * fails: its high and low levels collapse and neither OFF section is cut off.
  */
-export function checkMargins(design: Design, options: CheckOptions = {}): CheckResult {
+export function checkMargins(design: Design, options: CheckOptions = {}): CheckResult | { diagnostics: Diagnostic[] } {
+  // A design the solver cannot take (a short circuit) is bad input, reported at its place.
+  const compiled = compileCircuit(design);
+  if (!compiled.circuit) return { diagnostics: compiled.diagnostics };
   const scenario = options.scenario ?? AGEING_SCENARIOS[0]!;
   const required = options.requiredMargin ?? design.settings.requiredMargin;
   const graph = options.graph ?? buildStageGraph(design);

@@ -1,6 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { checkMargins } from '../../lib/index.js';
-import { design } from '../helpers.js';
+import { checkOf, design } from '../helpers.js';
 
 /**
  * Cross-coupled latches at 24 V / −12 V with set and clear buttons, in the arrangements
@@ -22,7 +21,7 @@ stage nq { load ${load} to bp; ${screen} input q  series ${divider} pulldown ${d
 
 describe('latches with known bench results (common practice, no source)', () => {
   it('the pentode latch with 33 kΩ loads and 220 kΩ / 220 kΩ dividers holds with wide margins and switches from both inputs', () => {
-    const r = checkMargins(latch('6AU6', 'screen bp;', '33 k', '220 k'));
+    const r = checkOf(latch('6AU6', 'screen bp;', '33 k', '220 k'));
     expect(r.verdict).toBe('pass');
     const l = r.latches[0]!;
     expect(l.holds).toBe(true);
@@ -33,7 +32,7 @@ describe('latches with known bench results (common practice, no source)', () => 
   });
 
   it('twin triodes in the same arrangement cannot be relied on: in worst case the OFF triode is not cut off and the latch does not hold', () => {
-    const r = checkMargins(latch('12AU7', '', '33 k', '220 k'));
+    const r = checkOf(latch('12AU7', '', '33 k', '220 k'));
     expect(r.verdict).toBe('fail');
     expect(r.latches[0]!.holds).toBe(false);
     const q = r.nets.find((n) => n.name === 'q')!;
@@ -41,7 +40,7 @@ describe('latches with known bench results (common practice, no source)', () => 
   });
 
   it('twin triodes with 100 kΩ loads and 330 kΩ / 330 kΩ dividers hold and switch from both inputs', () => {
-    const r = checkMargins(latch('12AU7', '', '100 k', '330 k'));
+    const r = checkOf(latch('12AU7', '', '100 k', '330 k'));
     const l = r.latches[0]!;
     expect(l.holds).toBe(true);
     expect(l.snm.worst).toBeGreaterThan(0.5);

@@ -3,7 +3,6 @@ import { describe, expect, it } from 'vitest';
 import {
   AGEING_SCENARIOS,
   buildStageGraph,
-  checkMargins,
   cutoffGrid,
   emissionBand,
   findScenario,
@@ -20,7 +19,7 @@ import {
 } from '../../lib/index.js';
 import { P, packSection } from '../../lib/models/tubeEquations.js';
 import { generateRegister } from '../../bench/generate.js';
-import { design, memoryLoader, netsFiles } from '../helpers.js';
+import { checkOf, design, memoryLoader, netsFiles } from '../helpers.js';
 import { loadDesign } from '../../lib/index.js';
 import { exhaustive, latchText, SMALL_DESIGNS } from './oracle.js';
 
@@ -180,7 +179,7 @@ drive IN (x) 20 V
 defaults { tube = "6AU6", tolerance = 0 % }
 type EXACT like "6AU6" { spread = 0 % }
 stage a { tube EXACT; load 33 k to bp; screen bp; input x series 100 k pulldown 300 k to bias }`);
-    const r = checkMargins(d, { requiredMargin: 0 });
+    const r = checkOf(d, { requiredMargin: 0 });
     const a = r.nets.find((n) => n.name === 'a')!;
     // (20/100k − 12/300k) / (1/100k + 1/300k) = 12 V above the cathode at ground.
     expect(a.driveMargin!.volts).toBeCloseTo(12, 6);

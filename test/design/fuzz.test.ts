@@ -1,6 +1,6 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { DIAGNOSTIC_CODES, designFromJson, designToJson, loadDesign, renderDiagnostics, solveOperatingPoint } from '../../lib/index.js';
+import { checkMargins, DIAGNOSTIC_CODES, designFromJson, designToJson, loadDesign, renderDiagnostics, solveOperatingPoint } from '../../lib/index.js';
 import { memoryLoader, netsFiles } from '../helpers.js';
 
 const FILES = netsFiles();
@@ -112,5 +112,23 @@ describe('fuzzing the front end with mutants of the nets/ files', () => {
     );
     expect(solved).toBeGreaterThan(20);
   });
-});
 
+  it('checks every small mutant that loads without errors, never throwing: a verdict or diagnostics', () => {
+    let checked = 0;
+    fc.assert(
+      fc.property(fc.nat({ max: NAMES.length - 1 }), fc.array(mutation, { minLength: 1, maxLength: 2 }), (which, mutations) => {
+        const name = NAMES[which] as string;
+        const files = { ...FILES, [name]: mutations.reduce(apply, FILES[name] as string) };
+        const main = name.includes('/lib/') ? 'nets/nor-adder.tube' : name;
+        const r = loadDesign(main, files[main] as string, { loader: memoryLoader(files) });
+        if (!r.ok || !r.design || r.design.parts.length > 300) return;
+        const result = checkMargins(r.design);
+        if ('verdict' in result) expect(['pass', 'fail']).toContain(result.verdict);
+        else for (const d of result.diagnostics) expect(KNOWN.has(d.code)).toBe(true);
+        checked++;
+      }),
+      { numRuns: 120, seed: 4242 },
+    );
+    expect(checked).toBeGreaterThan(10);
+  });
+});

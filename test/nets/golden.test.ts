@@ -1,8 +1,8 @@
 import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { buildStageGraph, checkMargins, designToJson, loadDesign, solveOperatingPoint } from '../../lib/index.js';
-import { ROOT, demoDesigns, memoryLoader, netsFiles } from '../helpers.js';
+import { buildStageGraph, designToJson, loadDesign, solveOperatingPoint } from '../../lib/index.js';
+import { ROOT, checkOf, demoDesigns, memoryLoader, netsFiles } from '../helpers.js';
 
 /**
  * Every demo design in nets/ is a golden test: `x.tube` beside `x.expected.json`, holding
@@ -62,8 +62,8 @@ describe('golden results of the demo designs', () => {
 const mv = (x: number | undefined) => (x === undefined || !Number.isFinite(x) ? null : Math.round(x * 1000) / 1000);
 
 /** What `check` finds, compactly: the verdict, per net its status, worst levels and margins, per latch its findings. */
-function checkSummary(design: Parameters<typeof checkMargins>[0]) {
-  const r = checkMargins(design);
+function checkSummary(design: Parameters<typeof checkOf>[0]) {
+  const r = checkOf(design);
   return {
     verdict: r.verdict,
     nets: Object.fromEntries(r.nets.map((n) => [n.name, [n.status, mv(n.high?.worst), mv(n.low?.worst), mv(n.margin.high), mv(n.margin.low), mv(n.cutoffMargin?.volts)]])),
