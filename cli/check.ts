@@ -1,24 +1,26 @@
 import { AGEING_SCENARIOS, checkMargins, findScenario } from '../lib/index.js';
 import { checkToJson, renderCheck } from '../lib/report/checkReport.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, report, type GlobalOptions } from './load.js';
+import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
 import { chalkFor } from './style.js';
 
 export const CHECK_SUMMARY = 'worst-case levels, noise margins, latches and fan-out: pass or fail';
 
 export const CHECK_HELP = `
-Works out, for every logic net, its worst-case high and low levels over resistor and
-rail tolerances, tube spread and the chosen ageing scenario, chained from stage to stage
-and settled around loops; the noise margins against the unity-gain thresholds of every
-input it feeds; the cutoff and drive margins of its sections; and how many more
-standard loads it could feed. Every latch is checked for holding (static noise margin)
-and for switching from each set and reset input at its weakest asserted level.
-Nets are listed weakest first; the weakest three are explained by the parameters whose
-corners make them weak.
+Works out, for every logic net, its worst-case high and low levels over
+resistor and rail tolerances, tube spread and the chosen ageing scenario,
+chained from stage to stage and settled around loops; the noise margins
+against the unity-gain thresholds of every input it feeds; the cutoff and
+drive margins of its sections; and how many more standard loads it could
+feed. Every latch is checked for holding (static noise margin) and for
+switching from each set and reset input at its weakest asserted level.
+Nets are listed weakest first; the weakest three are explained by the
+parameters whose corners make them weak.
 
 --margin overrides the design's required margin (defaults { margin = … }).
 --age picks the ageing scenario: ${AGEING_SCENARIOS.map((s) => s.name).join(', ')}.
-Exit code 0 when everything passes, 1 when a margin or a latch fails, 2 for bad input.`;
+Exit code 0 when everything passes, 1 when a margin or a latch fails, 2 for
+bad input.`;
 
 export interface CheckCliOptions extends GlobalOptions {
   json?: boolean;
@@ -27,11 +29,7 @@ export interface CheckCliOptions extends GlobalOptions {
 }
 
 export function runCheck(file: string, options: CheckCliOptions, io: CliIo): number {
-  const chalk = chalkFor(io, 'stderr');
-  const bad = (message: string) => {
-    io.stderr(`${chalk.red.bold('error')}: ${message}\n`);
-    return EXIT.badInput;
-  };
+  const bad = (message: string) => usageError(io, message);
   let margin: number | undefined;
   if (options.margin !== undefined) {
     const m = /^\s*(\d+(?:\.\d+)?)\s*(?:V)?\s*$/.exec(options.margin);

@@ -35,3 +35,9 @@ export function report(diagnostics: Diagnostic[], sources: ReadonlyMap<string, s
   io.stderr(formatDiagnostics(diagnostics, sources, chalkFor(io, 'stderr')) + '\n');
   if (hasErrors(diagnostics)) io.stderr('the design has errors; fix them and run again\n');
 }
+
+/** Prints a usage error (a bad option value) to stderr; returns the bad-input exit code. */
+export function usageError(io: CliIo, message: string): number {
+  io.stderr(`${chalkFor(io, 'stderr').red.bold('error')}: ${message}\n`);
+  return EXIT.badInput;
+}

@@ -1,8 +1,7 @@
 import { designNets, findPart, solveOperatingPoint, type StateHint } from '../lib/index.js';
 import { renderSolve, solveToJson } from '../lib/report/solveReport.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, report, type GlobalOptions } from './load.js';
-import { chalkFor } from './style.js';
+import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
 
 export const SOLVE_SUMMARY = 'solve the DC operating point: every node, section and resistor';
 
@@ -21,11 +20,7 @@ export interface SolveCliOptions extends GlobalOptions {
 }
 
 export function runSolve(file: string, options: SolveCliOptions, io: CliIo): number {
-  const chalk = chalkFor(io, 'stderr');
-  const bad = (message: string) => {
-    io.stderr(`${chalk.red.bold('error')}: ${message}\n`);
-    return EXIT.badInput;
-  };
+  const bad = (message: string) => usageError(io, message);
   const hints: StateHint[] = [];
   for (const h of options.hint ?? []) {
     const m = /^([^=\s]+)=([01])$/.exec(h);

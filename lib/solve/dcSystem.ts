@@ -330,9 +330,8 @@ export class DcSystem {
     const perveance = new Float64Array(c.tA.length);
     const r = this.eval;
     for (let t = 0; t < c.tA.length; t++) {
-      const vk = volt(c.tK[t]!);
       const screen = c.hasScreen[t] === 1;
-      evaluateTube(c.tubeParams, t * P.size, volt(c.tG[t]!) - vk, volt(c.tA[t]!) - vk, screen ? volt(c.tS[t]!) - vk : 0, r, 0);
+      this.evaluateSection(t, x, s.sourceScale);
       // Plate and screen currents are proportional to the perveance factor; grid current is not.
       const pv = c.tubeParams[t * P.size + P.perveance]!;
       const ia = r[R.ia]! / pv;
@@ -357,8 +356,7 @@ export class DcSystem {
       const screen = c.hasScreen[t] === 1;
       const ts = screen ? c.tS[t]! : -1;
       if (ta >= 0 && tg >= 0 && tk >= 0 && (!screen || ts >= 0)) continue;
-      const vk = volt(tk);
-      evaluateTube(c.tubeParams, t * P.size, volt(tg) - vk, volt(ta) - vk, screen ? volt(ts) - vk : 0, r, 0);
+      this.evaluateSection(t, x, scale);
       const iaVa = r[R.iaVa]!;
       const iaVg = r[R.iaVg]!;
       const iaVs = screen ? r[R.iaVs]! : 0;
@@ -402,17 +400,20 @@ export class DcSystem {
 
   /** Evaluates every tube section's equations once at `x`, the work no solver can skip: for benchmarks. */
   evaluateSections(x: Float64Array, s: NewtonSettings): number {
-    const c = this.circuit;
-    const r = this.eval;
-    const fixed = c.fixedVolts;
-    const volt = (t: number) => (t >= 0 ? x[t]! : fixed[-1 - t]! * s.sourceScale);
     let sum = 0;
-    for (let t = 0; t < c.tA.length; t++) {
-      const vk = volt(c.tK[t]!);
-      evaluateTube(c.tubeParams, t * P.size, volt(c.tG[t]!) - vk, volt(c.tA[t]!) - vk, c.hasScreen[t] ? volt(c.tS[t]!) - vk : 0, r, 0);
-      sum += r[R.ia]!;
+    for (let t = 0; t < this.circuit.tA.length; t++) {
+      this.evaluateSection(t, x, s.sourceScale);
+      sum += this.eval[R.ia]!;
     }
     return sum;
+  }
+
+  /** Evaluates section `t` at node voltages `x` into `this.eval` (outside the Newton loop, which inlines it). */
+  private evaluateSection(t: number, x: Float64Array, scale: number): void {
+    const c = this.circuit;
+    const volt = (k: number) => (k >= 0 ? x[k]! : c.fixedVolts[-1 - k]! * scale);
+    const vk = volt(c.tK[t]!);
+    evaluateTube(c.tubeParams, t * P.size, volt(c.tG[t]!) - vk, volt(c.tA[t]!) - vk, c.hasScreen[t] ? volt(c.tS[t]!) - vk : 0, this.eval, 0);
   }
 
   /** The circuit with every tube cut off, solved exactly (it is linear): a first guess. */

@@ -50,6 +50,14 @@ function apply(text: string, m: Mutation): string {
 
 const KNOWN = new Set<string>(DIAGNOSTIC_CODES);
 
+/** Loads the demo file `which` with `mutations` applied (an included file's mutant through a design that includes it). */
+function loadMutant(which: number, mutations: Parameters<typeof apply>[1][]) {
+  const name = NAMES[which] as string;
+  const files = { ...FILES, [name]: mutations.reduce(apply, FILES[name] as string) };
+  const main = name.includes('/lib/') ? 'nets/nor-adder.tube' : name;
+  return loadDesign(main, files[main] as string, { loader: memoryLoader(files) });
+}
+
 describe('fuzzing the front end with mutants of the nets/ files', () => {
   it('gives diagnostics only, never an exception or a hang, for 10,000 mutants', () => {
     let slowest = 0;
@@ -97,10 +105,7 @@ describe('fuzzing the front end with mutants of the nets/ files', () => {
     let solved = 0;
     fc.assert(
       fc.property(fc.nat({ max: NAMES.length - 1 }), fc.array(mutation, { minLength: 1, maxLength: 2 }), (which, mutations) => {
-        const name = NAMES[which] as string;
-        const files = { ...FILES, [name]: mutations.reduce(apply, FILES[name] as string) };
-        const main = name.includes('/lib/') ? 'nets/nor-adder.tube' : name;
-        const r = loadDesign(main, files[main] as string, { loader: memoryLoader(files) });
+        const r = loadMutant(which, mutations);
         if (!r.ok || !r.design || r.design.parts.length > 2000) return;
         const start = performance.now();
         const op = solveOperatingPoint(r.design);
@@ -117,10 +122,7 @@ describe('fuzzing the front end with mutants of the nets/ files', () => {
     let checked = 0;
     fc.assert(
       fc.property(fc.nat({ max: NAMES.length - 1 }), fc.array(mutation, { minLength: 1, maxLength: 2 }), (which, mutations) => {
-        const name = NAMES[which] as string;
-        const files = { ...FILES, [name]: mutations.reduce(apply, FILES[name] as string) };
-        const main = name.includes('/lib/') ? 'nets/nor-adder.tube' : name;
-        const r = loadDesign(main, files[main] as string, { loader: memoryLoader(files) });
+        const r = loadMutant(which, mutations);
         if (!r.ok || !r.design || r.design.parts.length > 300) return;
         const result = checkMargins(r.design);
         if ('verdict' in result) expect(['pass', 'fail']).toContain(result.verdict);
