@@ -131,7 +131,8 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
     for (const r of list) if (r.vilMin === undefined || r.vihMax === undefined) (flatInputs.get(r.stage) ?? flatInputs.set(r.stage, []).get(r.stage)!).push(driving);
   }
 
-  const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, flatInputs, required, load, designWide));
+  const inLoop = new Set(graph.loops.flatMap((l) => l.nets));
+  const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, flatInputs, inLoop, required, load, designWide));
   nets.sort((a, b) => (a.status === 'unchecked') !== (b.status === 'unchecked') ? (a.status === 'unchecked' ? 1 : -1) : a.slack - b.slack || compareNames(a.name, b.name));
   // The parameters behind the weakness, for every failing net and the three weakest classes.
   const weakestClasses = new Set(nets.map((n) => n.classId).filter((c, i, all) => all.indexOf(c) === i).slice(0, 3));
@@ -160,6 +161,7 @@ function judgeNet(
   fanout: number,
   receivers: ReceiverMargin[],
   flatInputs: ReadonlyMap<string, string[]>,
+  inLoop: ReadonlySet<string>,
   required: number,
   load: StandardLoad | undefined,
   designWide: { vil: number; vih: number } | undefined,
@@ -205,7 +207,10 @@ function judgeNet(
   const cutoff = net.polarity === 'input' ? undefined : cutoffMargin(chain, name);
   const drive = net.polarity === 'input' ? undefined : driveMargin(chain, name);
   const v = (x: number) => `${x.toFixed(2)} V`;
-  if (high && low && high.worst <= low.worst) reasons.push(`its high and low levels collapse (worst high ${v(high.worst)}, worst low ${v(low.worst)}): it cannot hold a state`);
+  if (high && low && high.worst <= low.worst) {
+    const consequence = inLoop.has(name) ? 'it cannot hold a state' : 'its high cannot be told from its low';
+    reasons.push(`its high and low levels collapse (worst high ${v(high.worst)}, worst low ${v(low.worst)}): ${consequence}`);
+  }
   if (cutoff && cutoff.volts < 0) reasons.push(`${cutoff.section} is not cut off while ${name} is high: its grid sits at ${v(cutoff.vgk)}, above its cutoff at ${v(cutoff.reference)}`);
   if (high && high.worst <= thresholdVolts) reasons.push(`its worst high level ${v(high.worst)} does not reach the logic threshold ${v(thresholdVolts)}`);
   if (low && low.worst >= thresholdVolts) reasons.push(`its worst low level ${v(low.worst)} is not below the logic threshold ${v(thresholdVolts)}: its drivers cannot pull it low`);

@@ -23,7 +23,8 @@ export interface ReportJson {
     cutoffMargin: number | null;
     driveMargin: number | null;
     headroom: number | null;
-    receivers: { section: string; stage: string; vil: number | null; vih: number | null }[];
+    /** Each input the net feeds: its worst-case thresholds and the net's noise margins against them. */
+    receivers: { section: string; stage: string; vil: number | null; vih: number | null; marginHigh: number | null; marginLow: number | null }[];
     status: 'pass' | 'fail' | 'unchecked';
     reasons: string[];
     causes: { parameter: string; kind: string; end: 'low' | 'high'; value: number; effectVolts: number }[];
@@ -74,7 +75,14 @@ export function checkToJson(design: Design, r: CheckResult): ReportJson {
       cutoffMargin: num(n.cutoffMargin?.volts),
       driveMargin: num(n.driveMargin?.volts),
       headroom: n.headroom ?? null,
-      receivers: n.receivers.map((x) => ({ section: x.section, stage: x.stage, vil: num(x.vilMin), vih: num(x.vihMax) })),
+      receivers: n.receivers.map((x) => ({
+        section: x.section,
+        stage: x.stage,
+        vil: num(x.vilMin),
+        vih: num(x.vihMax),
+        marginHigh: n.high && x.vihMax !== undefined ? n.high.worst - x.vihMax : null,
+        marginLow: n.low && x.vilMin !== undefined ? x.vilMin - n.low.worst : null,
+      })),
       status: n.status,
       reasons: n.reasons,
       causes: (n.weakest?.causes ?? []).map((c) => ({ parameter: c.target, kind: c.kind, end: c.end, value: c.value, effectVolts: c.volts })),
