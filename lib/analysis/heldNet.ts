@@ -3,7 +3,7 @@ import type { SectionVariation } from '../models/tubeEquations.js';
 import { buildStageGraph, type StageGraph } from '../graph/stageGraph.js';
 import { compileCircuit } from '../solve/circuit.js';
 import { DcSystem } from '../solve/dcSystem.js';
-import { solveOperatingPoint, type OperatingPoint, type SolveOptions } from '../solve/operatingPoint.js';
+import { RESIDUAL_LIMIT, solveOperatingPoint, type OperatingPoint, type SolveOptions } from '../solve/operatingPoint.js';
 
 /**
  * A design with one net held by a stiff source whose level changes between solves without
@@ -32,5 +32,29 @@ export class HeldNet {
     this.system.circuit.fixedVolts[this.fixed] = volts;
     const op = solveOperatingPoint(this.design, { graph: this.graph, system: this.system, ...options });
     return 'nodes' in op && op.converged ? op : undefined;
+  }
+
+  /**
+   * Newton alone from `start` with the net at `volts`, nothing pinned, no reports: the
+   * inner step of a continuation, where the last solution is close. Returns the unknowns,
+   * or undefined when Newton does not converge from there (near the end of a branch,
+   * which the continuation answers with a shorter step, not with homotopies that would
+   * find another state).
+   */
+  continueAt(volts: number, start: Float64Array): Float64Array | undefined {
+    if (!this.system) return undefined;
+    const c = this.system.circuit;
+    c.fixedVolts[this.fixed] = volts;
+    const x = Float64Array.from(start);
+    const rails = [0, ...this.design.rails.map((r) => r.volts)];
+    const maxStep = Math.min(20, Math.max(1, (Math.max(...rails) - Math.min(...rails)) / 10));
+    const converged = this.system.newton(x, { gmin: 1e-12, sourceScale: 1, maxStep, maxIterations: 50 }).converged;
+    return converged && this.system.trueResidual(x) <= RESIDUAL_LIMIT ? x : undefined;
+  }
+
+  /** A net's voltage in a solution of this design. */
+  voltsOf(x: Float64Array, net: string): number {
+    const t = this.system!.circuit.terminalOf.get(net)!;
+    return t >= 0 ? x[t]! : this.system!.circuit.fixedVolts[-1 - t]!;
   }
 }

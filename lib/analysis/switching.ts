@@ -1,6 +1,6 @@
 import type { Design } from '../design/model.js';
 import type { SectionVariation } from '../models/tubeEquations.js';
-import { logicThreshold, type OperatingPoint } from '../solve/operatingPoint.js';
+import { logicThreshold } from '../solve/operatingPoint.js';
 import { HeldNet } from './heldNet.js';
 
 export interface TriggerQuestion {
@@ -48,20 +48,20 @@ const THRESHOLD_STEP = 1e-3;
  */
 export function triggerMargin(design: Design, q: TriggerQuestion, variation?: ReadonlyMap<string, SectionVariation>): TriggerAnswer {
   const held = new HeldNet(design, q.input, variation);
-  const old = (op: OperatingPoint | undefined) => op !== undefined && op.nodes.get(q.leaves)! > logicThreshold(design, q.leaves);
+  const line = logicThreshold(design, q.leaves);
   const start = held.solveAt(q.quiet, { hints: [{ net: q.leaves, high: true }] });
-  if (!old(start)) return { switches: true, threshold: q.quiet, triggerMargin: Math.abs(q.asserted - q.quiet) };
+  if (start === undefined || start.nodes.get(q.leaves)! <= line) return { switches: true, threshold: q.quiet, triggerMargin: Math.abs(q.asserted - q.quiet) };
   const direction = Math.sign(q.asserted - q.quiet);
   const longest = Math.abs(q.asserted - q.quiet) / RISE_STEPS;
   let level = q.quiet;
-  let last = start!;
+  let last = start.x;
   let step = longest;
   while (direction * (q.asserted - level) > 0) {
     const next = direction > 0 ? Math.min(q.asserted, level + step) : Math.max(q.asserted, level - step);
-    const op = held.solveAt(next, { start: last.x });
-    if (old(op)) {
+    const x = held.continueAt(next, last);
+    if (x !== undefined && held.voltsOf(x, q.leaves) > line) {
       level = next;
-      last = op!;
+      last = x;
       step = Math.min(longest, step * 2);
       continue;
     }
