@@ -1,6 +1,6 @@
 import type { Design } from '../design/model.js';
 import { buildStageGraph, compareNames, type StageGraph } from '../graph/stageGraph.js';
-import { compileCircuit } from '../solve/circuit.js';
+import { joinNets } from '../solve/circuit.js';
 import { logicThreshold } from '../solve/operatingPoint.js';
 import type { Diagnostic } from '../source/diagnostic.js';
 import { AGEING_SCENARIOS, type AgeingScenario } from './ageing.js';
@@ -101,8 +101,8 @@ export interface CheckResult {
  */
 export function checkMargins(design: Design, options: CheckOptions = {}): CheckResult | { diagnostics: Diagnostic[] } {
   // A design the solver cannot take (a short circuit) is bad input, reported at its place.
-  const compiled = compileCircuit(design);
-  if (!compiled.circuit) return { diagnostics: compiled.diagnostics };
+  const shorts = joinNets(design).diagnostics;
+  if (shorts.length > 0) return { diagnostics: shorts };
   const scenario = options.scenario ?? AGEING_SCENARIOS[0]!;
   const required = options.requiredMargin ?? design.settings.requiredMargin;
   const graph = options.graph ?? buildStageGraph(design);
@@ -252,26 +252,29 @@ function judgeNet(
 
 /** The parameters whose corners make a level weak, largest effect first (at most four). */
 function causesOf(chain: LevelChain, net: ChainNet, what: 'high' | 'low' | 'cutoff'): Cause[] {
-  const cases = chain.casesOf(net);
-  const list = what === 'low' ? cases.low : cases.high;
-  let result: CaseResult | undefined;
-  for (const c of list) {
-    const r = chain.solveCase(c);
+  // Found once per class, by parameter position; named for this net.
+  const found = chain.memo(`causes|${chain.classOf(net.name)}|${what}`, () => {
+    const cases = chain.casesOf(net);
+    const list = what === 'low' ? cases.low : cases.high;
+    let result: CaseResult | undefined;
     const worse = (x: CaseResult) => (x.worst ?? (x.sense === 'min' ? -Infinity : Infinity)) * (x.sense === 'min' ? -1 : 1);
-    if (!result || worse(r) > worse(result)) result = r;
-  }
-  if (!result?.vertex || !result.effects) return [];
-  const r = result;
-  return net.parameters
-    .map((p, i) => {
-      const b = r.bands[i]!;
-      const width = b.high - b.low;
-      const shift = width > 0 ? (r.effects![i]! * (r.vertex![i]! - b.nominal)) / width : 0;
-      return { kind: p.kind, target: p.target, end: r.vertex![i] === b.high ? ('high' as const) : ('low' as const), value: r.vertex![i]!, volts: shift };
-    })
-    .filter((c) => Math.abs(c.volts) > 1e-3)
-    .sort((a, b) => Math.abs(b.volts) - Math.abs(a.volts))
-    .slice(0, 4);
+    for (const c of list) {
+      const r = chain.solveCase(c);
+      if (!result || worse(r) > worse(result)) result = r;
+    }
+    if (!result?.vertex || !result.effects) return [];
+    const r = result;
+    return r.bands
+      .map((b, i) => {
+        const width = b.high - b.low;
+        const shift = width > 0 ? (r.effects![i]! * (r.vertex![i]! - b.nominal)) / width : 0;
+        return { index: i, end: r.vertex![i] === b.high ? ('high' as const) : ('low' as const), value: r.vertex![i]!, volts: shift };
+      })
+      .filter((c) => Math.abs(c.volts) > 1e-3)
+      .sort((a, b) => Math.abs(b.volts) - Math.abs(a.volts))
+      .slice(0, 4);
+  });
+  return found.map(({ index, ...c }) => ({ kind: net.parameters[index]!.kind, target: net.parameters[index]!.target, ...c }));
 }
 
 export { MAX_EXTRA_LOADS };

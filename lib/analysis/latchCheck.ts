@@ -1,6 +1,7 @@
 import type { Receiver } from '../graph/stageGraph.js';
 import type { LevelChain } from './levelChain.js';
 import { localDesign } from './localDesign.js';
+import type { Region } from './region.js';
 import { receiverThresholds, type ReceiverThresholds } from './receiverThresholds.js';
 import { staticNoiseMargin, type ButterflyResult } from './staticNoiseMargin.js';
 import { triggerMargin } from './switching.js';
@@ -125,18 +126,29 @@ function checkTrigger(chain: LevelChain, latch: [string, string], pulled: string
   const partner = chain.nets.get(latch[0])!;
   const l = chain.levels.get(input)!;
   const asserted = l.highWorst;
-  // The two nets' classes, how they see each other and which input is asserted fix the whole question.
-  const key = `trigger|${chain.classOf(latch[0])}|${chain.classOf(pulled)}|${partner.region.boundaries.indexOf(pulled)}|${net.region.boundaries.indexOf(latch[0])}|${net.driverPositions[driver]}`;
-  const found = chain.memo(key, () => {
-    const corner = chain.solveCase({ net: pulled, on: driver });
-    const { region } = chain.regionWith(latch);
-    const quiet = l.canLow ? l.lowWorst : chain.railMin;
-    const levels = new Map<string, number>();
+  const quiet = l.canLow ? l.lowWorst : chain.railMin;
+  const corner = chain.solveCase({ net: pulled, on: driver });
+  const levels = new Map<string, number>();
+  let region: Region | undefined;
+  const latchRegion = () => {
+    if (region) return region;
+    region = chain.regionWith(latch).region;
     const others = new Set([...partner.feeders.flat(), ...net.feeders.flat()]);
     for (const b of region.boundaries) {
       const bl = chain.levels.get(b)!;
       levels.set(b, others.has(b) && bl.canLow ? bl.lowWorst : bl.canLow ? bl.lowNominal : bl.highNominal);
     }
+    return region;
+  };
+  // The two nets' classes and the input fix the question; failing that, the latch's region, the levels
+  // around it, the input and the corner do: latches alike share the answer.
+  const byClass = `trigger-class|${chain.classOf(latch[0])}|${chain.classOf(pulled)}|${partner.region.boundaries.indexOf(pulled)}|${net.region.boundaries.indexOf(latch[0])}|${net.driverPositions[driver]}`;
+  const byValue = () => {
+    const r = latchRegion();
+    return `trigger|${chain.kindOf(r)}|${net.kind}|${net.driverPositions[driver]}|${r.boundaries.indexOf(input)}|${r.boundaries.map((b) => levels.get(b)).join(',')}|${corner.vertex?.join(',')}|${asserted}|${quiet}`;
+  };
+  const found = chain.memoTwice(byClass, byValue, () => {
+    const region = latchRegion();
     const vertex = corner.vertex;
     // The corner's own boundary levels are left out: the latch region holds its boundaries itself.
     const parameters = net.parameters.filter((p) => p.kind !== 'level');

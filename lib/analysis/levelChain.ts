@@ -460,6 +460,18 @@ export class LevelChain {
     return value;
   }
 
+  /**
+   * A result kept under two keys: a cheap one by class (`byClass`, equal for nets of one
+   * class), tried first, and one by value (`byValue()`, equal for every problem alike,
+   * also across classes), built only when the first misses.
+   */
+  memoTwice<T>(byClass: string, byValue: () => string, compute: () => T): T {
+    if (this.memos.has(byClass)) return this.memos.get(byClass) as T;
+    const value = this.memo(byValue(), compute);
+    this.memos.set(byClass, value);
+    return value;
+  }
+
   /** A region for `targets` with extra parts (fan-out probes), and its parameters. */
   regionWith(targets: string[], extra: readonly Part[] = []): { region: Region; parameters: LocalParameter[] } {
     const region = buildRegion(this.index, targets, extra);

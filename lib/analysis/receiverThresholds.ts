@@ -43,10 +43,10 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
   const swing = Math.max(1, hi - lo);
   const from = Math.max(chain.railMin, lo - 0.25 * swing);
   const to = Math.min(chain.railMax, hi + 0.1 * swing);
-  // The stage's class fixes its region and every level around it, the driving net's among them.
-  const memoKey = `thresholds|${chain.classOf(stage.name)}|${stage.driverPositions[on]}|${boundary}`;
-  // Kept without names: every receiver of the same kind shares it.
-  const found = chain.memo(memoKey, () => {
+  // The stage's class, or else its region kind and the levels around it, fix the curves: stages alike share them.
+  const position = stage.driverPositions[on];
+  const memoKey = () => `thresholds|${stage.kind}|${position}|${boundary}|${chain.levelKey(stage, on, driving)}|${from}|${to}`;
+  const found = chain.memoTwice(`thresholds-class|${chain.classOf(stage.name)}|${position}|${boundary}`, memoKey, () => {
     const { problem } = chain.problem(stage.region, undefined, stage.kind);
     const bands = chain.bandsOf(stage, on, driving);
     const swept = stage.parameters.length - stage.region.boundaries.length + boundary;
@@ -73,11 +73,12 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
     const early = unityGainPoints(curves.early.vin, curves.early.vout);
     const late = unityGainPoints(curves.late.vin, curves.late.vout);
     return {
+      key: memoKey(),
       nominal: unityGainPoints(curves.nominal.vin, curves.nominal.vout),
       vilMin: early?.vil,
       vihMax: late?.vih,
       curves: curves as ReceiverThresholds['curves'],
     };
   });
-  return found && { stage: stage.name, section: receiver.section, key: memoKey, ...found };
+  return found && { stage: stage.name, section: receiver.section, ...found };
 }

@@ -64,14 +64,27 @@ export interface CompileOptions {
   variation?: ReadonlyMap<string, SectionVariation>;
 }
 
+/** Nets joined by closed switches, and the fixed voltages (ground, stiff rails and drives) they carry. */
+interface JoinedNets {
+  find: (net: string) => string;
+  fixedNames: string[];
+  fixedValues: number[];
+  /** Fixed voltage index by the root net of its group. */
+  fixedOf: Map<string, number>;
+  /** Rails and drives with a source resistance: fed through a conductance, not fixed. */
+  sources: { net: string; volts: number; ohms: number }[];
+  /** A short circuit: a closed switch or a shared net joining fixed voltages that differ. */
+  diagnostics: Diagnostic[];
+}
+
 /**
- * Compiles a flat design for the solver. Reports a short circuit (a closed switch joining
- * two fixed voltages that differ) as a diagnostic.
+ * Joins the nets that closed switches connect (union-find) and fixes the groups that hold
+ * ground, a stiff rail or a stiff drive; reports two different fixed voltages in one group
+ * as a short circuit. The first step of compiling, and on its own the check that a design
+ * can be solved at all.
  */
-export function compileCircuit(design: Design, options: CompileOptions = {}): { circuit: Circuit | undefined; diagnostics: Diagnostic[] } {
+export function joinNets(design: Design, close: ReadonlySet<string> = new Set<string>()): JoinedNets {
   const diagnostics: Diagnostic[] = [];
-  const close = options.close ?? new Set<string>();
-  // Union-find over nets joined by closed switches.
   const parent = new Map<string, string>();
   const find = (x: string): string => {
     let r = x;
@@ -107,18 +120,29 @@ export function compileCircuit(design: Design, options: CompileOptions = {}): { 
     return fixedNames.length - 1;
   };
   fix(GROUND, 0, 'ground');
-  const railSources: { net: string; volts: number; ohms: number }[] = [];
+  const sources: JoinedNets['sources'] = [];
   for (const r of design.rails) {
-    if (r.sourceOhms > 0) railSources.push({ net: r.name, volts: r.volts, ohms: r.sourceOhms });
+    if (r.sourceOhms > 0) sources.push({ net: r.name, volts: r.volts, ohms: r.sourceOhms });
     else fix(r.name, r.volts, `rail '${r.name}'`, r.span);
   }
   for (const p of design.parts) {
     if (p.type === 'drive') {
-      if (p.sourceOhms > 0) railSources.push({ net: p.node, volts: p.volts, ohms: p.sourceOhms });
+      if (p.sourceOhms > 0) sources.push({ net: p.node, volts: p.volts, ohms: p.sourceOhms });
       else fix(p.node, p.volts, `drive '${p.name}'`, p.span);
     }
   }
+  return { find, fixedNames, fixedValues, fixedOf, sources, diagnostics };
+}
+
+/**
+ * Compiles a flat design for the solver. Reports a short circuit (a closed switch joining
+ * two fixed voltages that differ) as a diagnostic.
+ */
+export function compileCircuit(design: Design, options: CompileOptions = {}): { circuit: Circuit | undefined; diagnostics: Diagnostic[] } {
+  const joined = joinNets(design, options.close);
+  const { diagnostics, find, fixedNames, fixedValues, fixedOf } = joined;
   if (diagnostics.length > 0) return { circuit: undefined, diagnostics };
+  const railSources = joined.sources;
 
   const nodeNames: string[] = [];
   const unknownOf = new Map<string, number>();
