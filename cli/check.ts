@@ -1,7 +1,8 @@
-import { AGEING_SCENARIOS, checkMargins, findScenario } from '../lib/index.js';
+import { AGEING_SCENARIOS, checkMargins, DISTRIBUTIONS, findScenario, samplingThresholds, type Distribution } from '../lib/index.js';
 import { checkToJson, renderCheck } from '../lib/report/checkReport.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
+import { defaultWorkers, MAX_SAMPLES, runSamples } from './sampling.js';
 import { chalkFor } from './style.js';
 
 export const CHECK_SUMMARY = 'worst-case levels, noise margins, latches and fan-out: pass or fail';
@@ -19,6 +20,10 @@ parameters whose corners make them weak.
 
 --margin overrides the design's required margin (defaults { margin = … }).
 --age picks the ageing scenario: ${AGEING_SCENARIOS.map((s) => s.name).join(', ')}.
+--samples N adds a Monte Carlo run: N full-circuit solves per latch state at
+random values (--distribution ${DISTRIBUTIONS.join(', ')}; --seed S), the yield
+with its 95 % interval, each net's margin distribution and the parts that go
+with failures; --workers K spreads it over K threads (the same result).
 Exit code 0 when everything passes, 1 when a margin or a latch fails, 2 for
 bad input.`;
 
@@ -26,9 +31,20 @@ export interface CheckCliOptions extends GlobalOptions {
   json?: boolean;
   margin?: string;
   age?: string;
+  samples?: string;
+  seed?: string;
+  distribution?: string;
+  workers?: string;
 }
 
-export function runCheck(file: string, options: CheckCliOptions, io: CliIo): number {
+/** A whole number in [min, max], or undefined. */
+function wholeNumber(text: string | undefined, min: number, max: number): number | undefined {
+  if (text === undefined || !/^\d+$/.test(text.trim())) return undefined;
+  const n = Number(text);
+  return n >= min && n <= max ? n : undefined;
+}
+
+export async function runCheck(file: string, options: CheckCliOptions, io: CliIo): Promise<number> {
   const bad = (message: string) => usageError(io, message);
   let margin: number | undefined;
   if (options.margin !== undefined) {
@@ -38,6 +54,14 @@ export function runCheck(file: string, options: CheckCliOptions, io: CliIo): num
   }
   const scenario = findScenario(options.age ?? 'new');
   if (!scenario) return bad(`--age takes one of ${AGEING_SCENARIOS.map((s) => s.name).join(', ')}, not '${options.age}'`);
+  const samples = options.samples === undefined ? 0 : wholeNumber(options.samples, 1, MAX_SAMPLES);
+  if (samples === undefined) return bad(`--samples takes a whole number from 1 to ${MAX_SAMPLES.toLocaleString('en')}, not '${options.samples}'`);
+  const seed = options.seed === undefined ? 1 : wholeNumber(options.seed, 0, 2 ** 32 - 1);
+  if (seed === undefined) return bad(`--seed takes a whole number from 0 to 4294967295, not '${options.seed}'`);
+  const distribution = (options.distribution ?? 'uniform') as Distribution;
+  if (!DISTRIBUTIONS.includes(distribution)) return bad(`--distribution takes one of ${DISTRIBUTIONS.join(', ')}, not '${options.distribution}'`);
+  const workers = options.workers === undefined ? defaultWorkers() : wholeNumber(options.workers, 1, 256);
+  if (workers === undefined) return bad(`--workers takes a whole number from 1 to 256, not '${options.workers}'`);
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
   const result = checkMargins(loaded.design, { requiredMargin: margin, scenario });
@@ -45,9 +69,10 @@ export function runCheck(file: string, options: CheckCliOptions, io: CliIo): num
     report(result.diagnostics, loaded.sources, io);
     return EXIT.badInput;
   }
-  if (options.json) io.stdout(JSON.stringify(checkToJson(loaded.design, result), null, 2) + '\n');
+  const sampled = samples > 0 ? await runSamples(loaded.design, { seed, distribution, scenario: scenario.name, requiredMargin: result.requiredMargin, thresholds: samplingThresholds(result) }, samples, workers, io) : undefined;
+  if (options.json) io.stdout(JSON.stringify(checkToJson(loaded.design, result, sampled), null, 2) + '\n');
   else {
-    const text = renderCheck(loaded.design, result, file);
+    const text = renderCheck(loaded.design, result, file, sampled);
     const out = chalkFor(io, 'stdout');
     io.stdout(text.replace(/^(PASS|FAIL)/m, (w) => (w === 'PASS' ? out.green.bold(w) : out.red.bold(w))));
   }

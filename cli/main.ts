@@ -15,6 +15,7 @@ Examples:
   tubemargin solve nets/irrigation-sequencer.tube --hint bed[1]/on=1 --close STOP
   tubemargin check nets/nor-adder.tube           worst-case margins: pass or fail
   tubemargin check nets/crate-tally.tube --age end-of-life --margin 10
+  tubemargin check nets/nor-adder.tube --samples 10000 --seed 7
   tubemargin tubes                               the tube library
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
@@ -67,9 +68,13 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .argument('<file>', 'design file (.tube text or .json)')
     .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
     .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
+    .option('--samples <N>', 'add a Monte Carlo run of N samples: yield, margin distributions, parts behind failures')
+    .option('--seed <S>', 'seed of the Monte Carlo run (default 1): the same seed, the same result')
+    .option('--distribution <D>', 'how values are drawn: uniform, normal (tolerance = 3σ), graded (default uniform)')
+    .option('--workers <K>', 'threads for the Monte Carlo run (default: every core)')
     .option('--json', 'print the report as tubemargin.report/1 JSON')
-    .action((file: string, opts: CheckCliOptions) => {
-      code = runCheck(file, { ...program.opts(), ...opts }, io);
+    .action(async (file: string, opts: CheckCliOptions) => {
+      code = await runCheck(file, { ...program.opts(), ...opts }, io);
     });
 
   program

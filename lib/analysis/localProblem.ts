@@ -156,6 +156,25 @@ export class LocalProblem {
     return this.warm;
   }
 
+  /**
+   * Solves at `values` starting from `start` (a solution of the same problem), keeping to
+   * the state it holds: Newton, then gmin stepping from the same start; never the
+   * devices-off guess, which could land in another state. False when neither converges.
+   */
+  solveFrom(values: ArrayLike<number>, start: Float64Array): boolean {
+    this.apply(values);
+    const sys = this.system;
+    const x = this.x;
+    x.set(start);
+    let ok = sys.newton(x, this.settings).converged;
+    if (!ok) {
+      x.set(start);
+      ok = [1e-6, 1e-8, 1e-10, 1e-12].every((gmin) => sys.newton(x, { ...this.settings, gmin, maxIterations: 200 }).converged);
+    }
+    this.warm = ok && sys.trueResidual(x) <= RESIDUAL_LIMIT;
+    return this.warm;
+  }
+
   /** Voltage of terminal `t` in the last solution. */
   volts(t: number): number {
     return t >= 0 ? this.x[t]! : this.circuit.fixedVolts[-1 - t]!;

@@ -91,8 +91,12 @@ export interface Region {
 /** A region larger than this many internal nodes stops growing (a shared screen or cathode node would pull in the whole design). */
 const MAX_REGION_NODES = 400;
 
-/** Builds the region of `targets`; `extra` parts (already named and wired) are added to it; switches named in `open` are taken open whatever the design says. */
-export function buildRegion(index: DesignIndex, targets: readonly string[], extra: readonly Part[] = [], open?: ReadonlySet<string>): Region {
+/**
+ * Builds the region of `targets`; `extra` parts (already named and wired) are added to it;
+ * switches named in `open` are taken open whatever the design says. A region stops growing
+ * at `limit` internal nodes (a region of every logic net, the whole design, sets none).
+ */
+export function buildRegion(index: DesignIndex, targets: readonly string[], extra: readonly Part[] = [], open?: ReadonlySet<string>, limit = MAX_REGION_NODES): Region {
   const { design, fixed, logic, partsAt } = index;
   const inside = new Set<string>(targets);
   const queue = [...targets];
@@ -105,7 +109,7 @@ export function buildRegion(index: DesignIndex, targets: readonly string[], extr
       taken.push(i);
       for (const other of index.pins[i]!) {
         if (inside.has(other) || fixed.has(other) || logic.has(other)) continue;
-        if (inside.size >= MAX_REGION_NODES + targets.length) continue;
+        if (inside.size >= limit + targets.length) continue;
         inside.add(other);
         queue.push(other);
       }

@@ -1,6 +1,7 @@
 import type { CheckResult, Cause, NetCheck } from '../analysis/check.js';
 import { MAX_EXTRA_LOADS } from '../analysis/fanoutHeadroom.js';
 import { CUTOFF_FRACTION } from '../analysis/gridMargins.js';
+import type { MonteCarloResult } from '../analysis/monteCarlo.js';
 import type { Design } from '../design/model.js';
 import { cutList, formatSI, table, wrap } from './format.js';
 import { safetyCautions } from './safety.js';
@@ -39,6 +40,17 @@ export interface ReportJson {
     inputs: { input: string; pulls: string; switches: boolean; threshold: number | null; triggerMargin: number | null; note: string | null }[];
     reasons: string[];
   }[];
+  /** Present with `--samples`. */
+  monteCarlo?: {
+    samples: number;
+    seed: number;
+    distribution: string;
+    yield: number;
+    interval: [number, number];
+    nets: { net: string; min: number | null; p1: number | null; median: number | null; failures: number }[];
+    correlated: { parameter: string; kind: string; correlation: number }[];
+    failingSamples: number[];
+  };
   definitions: Record<string, string>;
   cautions: string[];
 }
@@ -58,8 +70,8 @@ export const DEFINITIONS: Record<string, string> = {
 
 const num = (x: number | undefined) => (x === undefined || !Number.isFinite(x) ? null : x);
 
-export function checkToJson(design: Design, r: CheckResult): ReportJson {
-  return {
+export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResult): ReportJson {
+  const json: ReportJson = {
     schema: 'tubemargin.report/1',
     title: r.title,
     verdict: r.verdict,
@@ -104,6 +116,19 @@ export function checkToJson(design: Design, r: CheckResult): ReportJson {
     definitions: DEFINITIONS,
     cautions: safetyCautions(design),
   };
+  if (mc) {
+    json.monteCarlo = {
+      samples: mc.samples,
+      seed: mc.seed,
+      distribution: mc.distribution,
+      yield: mc.yield,
+      interval: mc.interval,
+      nets: mc.nets.map((n) => ({ net: n.net, min: num(n.min), p1: num(n.p1), median: num(n.median), failures: n.failures })),
+      correlated: mc.correlated.map((c) => ({ parameter: c.target, kind: c.kind, correlation: c.correlation })),
+      failingSamples: mc.failing,
+    };
+  }
+  return json;
 }
 
 const v = (x: number | undefined) => (x === undefined || !Number.isFinite(x) ? '—' : x.toFixed(2));
@@ -121,6 +146,31 @@ export function describeCause(c: Cause): string {
   return `${what[c.kind]} (${c.end} end): ${c.volts >= 0 ? 'up' : 'down'} ${Math.abs(c.volts).toFixed(2)} V`;
 }
 
+/** The Monte Carlo section: yield with its interval, the nets with the smallest 1st-percentile margin, the parts behind failures. */
+function renderSamples(mc: MonteCarloResult, required: number): string[] {
+  const pct = (x: number) => `${(100 * x).toFixed(x > 0.999 || x < 0.001 ? 2 : 1)} %`;
+  const out = indented(
+    `Monte Carlo: ${mc.samples.toLocaleString('en')} samples (${mc.distribution}, seed ${mc.seed}): yield ${pct(mc.yield)}, 95 % interval ${pct(mc.interval[0])} to ${pct(mc.interval[1])}: the share of builds in which every judged net keeps ${v(required)} V and every latch keeps both states.`,
+    '',
+    '  ',
+  );
+  const weakest = [...mc.nets].sort((a, b) => a.p1 - b.p1).slice(0, 8);
+  out.push(
+    ...table(
+      ['  net', 'min', '1 %', 'median', 'failed'],
+      weakest.map((n) => ['  ' + n.net, v(n.min), v(n.p1), v(n.median), String(n.failures)]),
+      [26, 7, 7, 7],
+    ),
+  );
+  out.push('  (noise margin in volts over the samples, smallest 1st percentile first)');
+  if (mc.correlated.length > 0) {
+    out.push('  The parts whose values go most with failing builds (correlation):');
+    for (const c of mc.correlated) out.push(`    ${c.kind} ${c.target}: ${c.correlation >= 0 ? '+' : '−'}${Math.abs(c.correlation).toFixed(2)} (${c.correlation >= 0 ? 'high' : 'low'} values fail)`);
+  }
+  if (mc.failing.length > 0) out.push(`  First failing samples: ${mc.failing.join(', ')}`);
+  return out;
+}
+
 /** Prose wrapped to the report's width, its first line after `first`, the rest after `rest`. */
 function indented(text: string, first: string, rest: string): string[] {
   return wrap(text, REPORT_COLUMNS - first.length, rest.slice(first.length)).map((line) => first + line);
@@ -136,7 +186,7 @@ function statusText(n: NetCheck): string {
  * (holds, SNM, switches, trigger margin); the weakest three nets explained by the
  * parameters whose corners make them weak; what each figure means. Lines fit 80 columns.
  */
-export function renderCheck(design: Design, r: CheckResult, source: string): string {
+export function renderCheck(design: Design, r: CheckResult, source: string, mc?: MonteCarloResult): string {
   const out: string[] = [];
   const failing = r.nets.filter((n) => n.status === 'fail');
   const badLatches = r.latches.filter((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined));
@@ -221,6 +271,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string): str
     out.push(...indented(`Latch ${l.nets.join(' ↔ ')}: ${l.holds ? 'holds' : 'does NOT hold'}${l.reasons.length ? ': ' + l.reasons.join('; ') : ''}`, '', '  '));
     for (const i of l.inputs) if (!i.switches && i.note === undefined) out.push(...indented(`${i.input} at its weakest asserted level ${v(i.asserted)} V does not switch it`, '  ', '    '));
   }
+  if (mc) out.push('', ...renderSamples(mc, r.requiredMargin));
   out.push('');
   out.push('What the figures mean');
   for (const [k, text] of Object.entries(DEFINITIONS)) out.push(...indented(`${k}: ${text}`, '  ', '    '));

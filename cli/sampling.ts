@@ -1,0 +1,69 @@
+import { availableParallelism } from 'node:os';
+import { Worker } from 'node:worker_threads';
+import { SingleBar } from 'cli-progress';
+import { designToJson, Sampler, summarizeSamples, type Design, type MonteCarloResult, type SampleOutcome, type SamplingSetup } from '../lib/index.js';
+import type { CliIo } from './io.js';
+
+/** Largest sample count a run takes. */
+export const MAX_SAMPLES = 1_000_000;
+
+/**
+ * Runs `samples` Monte Carlo samples of a design on `workers` threads (one: in this
+ * thread) and sums them up. The samples are split into contiguous ranges, one per worker,
+ * and put back in index order, so the result for a seed is the same whatever the number
+ * of workers. A progress bar goes to stderr when it is a terminal.
+ *
+ * A well-kept library (cli-progress) draws the bar: it handles terminal width, redraw
+ * rate and the end of the line, which are fiddly to get right by hand and are not our job.
+ */
+export async function runSamples(design: Design, setup: SamplingSetup, samples: number, workers: number, io: CliIo): Promise<MonteCarloResult> {
+  const bar = io.stderrIsTTY ? new SingleBar({ stream: process.stderr, format: 'samples [{bar}] {value}/{total} {eta_formatted} left', hideCursor: true }) : undefined;
+  bar?.start(samples, 0);
+  const sampler = new Sampler(design, setup);
+  const threads = Math.max(1, Math.min(workers, samples));
+  let outcomes: SampleOutcome[];
+  try {
+    if (threads === 1) {
+      outcomes = [];
+      for (let k = 0; k < samples; k++) {
+        outcomes.push(sampler.run(k));
+        if (k % 8 === 7) bar?.increment(8);
+      }
+    } else outcomes = await inThreads(design, setup, samples, threads, sampler.parameters.length, (n) => bar?.increment(n));
+  } finally {
+    bar?.update(samples);
+    bar?.stop();
+  }
+  return summarizeSamples(setup, sampler.parameters, outcomes);
+}
+
+/** How many workers by default: every core the machine offers. */
+export function defaultWorkers(): number {
+  return availableParallelism();
+}
+
+async function inThreads(design: Design, setup: SamplingSetup, samples: number, threads: number, params: number, progress: (n: number) => void): Promise<SampleOutcome[]> {
+  const designJson = JSON.stringify(designToJson(design));
+  const judged = setup.thresholds.length;
+  const ranges = Array.from({ length: threads }, (_, w) => [Math.floor((samples * w) / threads), Math.floor((samples * (w + 1)) / threads)] as const);
+  const parts = await Promise.all(
+    ranges.map(
+      ([from, to]) =>
+        new Promise<SampleOutcome[]>((resolve, reject) => {
+          const worker = new Worker(new URL('./sampleWorker.js', import.meta.url), { workerData: { designJson, setup, from, to } });
+          worker.on('message', (m: { progress: number; pass?: Uint8Array; margins?: Float64Array; deviations?: Float64Array }) => {
+            progress(m.progress);
+            if (!m.pass) return;
+            const out: SampleOutcome[] = [];
+            for (let k = 0; k < to - from; k++) {
+              out.push({ pass: m.pass[k] === 1, margins: m.margins!.subarray(k * judged, (k + 1) * judged), deviations: m.deviations!.subarray(k * params, (k + 1) * params) });
+            }
+            resolve(out);
+            void worker.terminate();
+          });
+          worker.on('error', reject);
+        }),
+    ),
+  );
+  return parts.flat();
+}

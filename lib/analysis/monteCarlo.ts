@@ -1,0 +1,219 @@
+import type { Design } from '../design/model.js';
+import { buildStageGraph } from '../graph/stageGraph.js';
+import { logicThreshold, solveOperatingPoint, type StateHint } from '../solve/operatingPoint.js';
+import { findScenario, type AgeingScenario } from './ageing.js';
+import type { CheckResult } from './check.js';
+import { LocalProblem, regionParameters, type LocalParameter } from './localProblem.js';
+import { buildRegion, indexDesign } from './region.js';
+
+/**
+ * How each toleranced value is drawn: uniform over its band; normal with the band's half
+ * width as 3σ (unbounded: a few parts in a thousand fall outside); or, for resistors,
+ * "graded": a lot from which the parts near nominal were sorted out into a tighter grade,
+ * so what is left lies between `gradedInner` of the tolerance and the tolerance, either
+ * side (rails, drives and tubes are then uniform).
+ */
+export type Distribution = 'uniform' | 'normal' | 'graded';
+export const DISTRIBUTIONS: readonly Distribution[] = ['uniform', 'normal', 'graded'];
+
+/** Share of a resistor's tolerance sorted out of a graded lot: a 5 % lot without its 1 % parts (common practice, no source). */
+export const GRADED_INNER = 0.2;
+
+/** Everything a sampler needs besides the design, as plain data (it crosses to worker threads). */
+export interface SamplingSetup {
+  seed: number;
+  distribution: Distribution;
+  /** The ageing scenario's name (its emission band and interface range). */
+  scenario: string;
+  requiredMargin: number;
+  /** Per judged net: the lowest VIL and highest VIH of the inputs it feeds (from `check`). */
+  thresholds: { net: string; vil: number; vih: number }[];
+}
+
+/** The thresholds a sampling run judges against, from a check of the same design. */
+export function samplingThresholds(check: CheckResult): SamplingSetup['thresholds'] {
+  return check.nets.flatMap((n) => {
+    const vils = n.receivers.flatMap((r) => (r.vilMin === undefined ? [] : [r.vilMin]));
+    const vihs = n.receivers.flatMap((r) => (r.vihMax === undefined ? [] : [r.vihMax]));
+    return vils.length > 0 && vihs.length > 0 ? [{ net: n.name, vil: Math.min(...vils), vih: Math.max(...vihs) }] : [];
+  });
+}
+
+/** What one sample gave. */
+export interface SampleOutcome {
+  pass: boolean;
+  /** Per judged net (setup order), its smallest noise margin over the states solved; NaN when no state solved. */
+  margins: Float64Array;
+  /** Per parameter, where the sample put it in its band: −1 at the low end, +1 at the high end. */
+  deviations: Float64Array;
+}
+
+/**
+ * A small, fast, seedable generator (mulberry32, public domain): the stream of sample k
+ * is seeded from the run's seed and k alone, so a sample's values do not depend on which
+ * worker draws it or in what order.
+ */
+function stream(seed: number, sample: number): () => number {
+  let a = (Math.imul(seed ^ 0x9e3779b9, 0x85ebca6b) ^ Math.imul(sample + 1, 0xc2b2ae35)) >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/** Draws one value per band for sample `index`, in band order. */
+export function drawSample(bands: readonly LocalParameter[], distribution: Distribution, seed: number, index: number): Float64Array {
+  const next = stream(seed, index);
+  return Float64Array.from(bands, (b) => {
+    const mid = (b.low + b.high) / 2;
+    const half = (b.high - b.low) / 2;
+    if (half === 0) return b.nominal;
+    if (distribution === 'normal') {
+      // Box–Muller: two uniforms give one standard normal.
+      const u = 1 - next();
+      const z = Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * next());
+      return mid + (half / 3) * z;
+    }
+    if (distribution === 'graded' && b.kind === 'resistor') {
+      const side = next() < 0.5 ? -1 : 1;
+      return mid + side * half * (GRADED_INNER + (1 - GRADED_INNER) * next());
+    }
+    return b.low + (b.high - b.low) * next();
+  });
+}
+
+/**
+ * Full-circuit DC solves at sampled parameter values. The whole design is one region
+ * (every logic net a target, no boundaries), compiled once; every latch is solved in
+ * two states (each latch's first net low, then high), each sample starting from that
+ * state's nominal solution so the latches keep their state where it still exists. A
+ * sample passes when every state is still there and every judged net keeps the required
+ * margin against the thresholds `check` found.
+ */
+export class Sampler {
+  readonly parameters: LocalParameter[];
+  private readonly problem: LocalProblem;
+  private readonly states: { hints: StateHint[]; x: Float64Array }[] = [];
+  private readonly judged: { terminal: number; threshold: number; vil: number; vih: number }[];
+  private readonly latchNets: { terminal: number; threshold: number }[];
+
+  constructor(
+    readonly design: Design,
+    readonly setup: SamplingSetup,
+  ) {
+    const graph = buildStageGraph(design);
+    const index = indexDesign(design, graph);
+    const scenario: AgeingScenario = findScenario(setup.scenario) ?? findScenario('new')!;
+    const region = buildRegion(index, graph.nets.map((n) => n.name), [], undefined, Infinity);
+    this.parameters = regionParameters(design, region, scenario);
+    this.problem = new LocalProblem(design, region, scenario);
+    const c = this.problem.circuit;
+    const terminal = (net: string) => c.terminalOf.get(net)!;
+    this.judged = setup.thresholds.map((t) => ({ terminal: terminal(t.net), threshold: logicThreshold(design, t.net), vil: t.vil, vih: t.vih }));
+    const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => l.nets[0]!);
+    this.latchNets = latches.map((net) => ({ terminal: terminal(net), threshold: logicThreshold(design, net) }));
+    const nominal = this.parameters.map((p) => p.nominal);
+    for (const high of latches.length > 0 ? [false, true] : [false]) {
+      const hints = latches.map((net) => ({ net, high }));
+      const op = solveOperatingPoint(design, { graph, hints });
+      if (!('nodes' in op) || !op.converged) continue;
+      // The same state in the region's own unknowns: solve the region from the full solution.
+      const x = new Float64Array(c.n);
+      c.nodeNames.forEach((name, i) => (x[i] = op.nodes.get(name) ?? 0));
+      if (this.problem.solveFrom(nominal, x)) this.states.push({ hints, x: Float64Array.from(this.problem.solution) });
+    }
+  }
+
+  /** Solves sample `index` of the run. */
+  run(index: number): SampleOutcome {
+    const values = drawSample(this.parameters, this.setup.distribution, this.setup.seed, index);
+    const deviations = Float64Array.from(this.parameters, (p, i) => (p.high > p.low ? (2 * (values[i]! - p.low)) / (p.high - p.low) - 1 : 0));
+    const margins = new Float64Array(this.judged.length).fill(NaN);
+    let pass = this.states.length > 0;
+    for (const state of this.states) {
+      if (!this.problem.solveFrom(values, state.x)) {
+        pass = false;
+        continue;
+      }
+      const volts = (t: number) => this.problem.volts(t);
+      state.hints.forEach((h, k) => {
+        const l = this.latchNets[k]!;
+        if (volts(l.terminal) > l.threshold !== h.high) pass = false;
+      });
+      this.judged.forEach((j, k) => {
+        const v = volts(j.terminal);
+        const m = v > j.threshold ? v - j.vih : j.vil - v;
+        if (!(m >= margins[k]!)) margins[k] = Number.isNaN(margins[k]!) ? m : Math.min(margins[k]!, m);
+        if (m < this.setup.requiredMargin) pass = false;
+      });
+    }
+    return { pass, margins, deviations };
+  }
+}
+
+export interface MonteCarloResult {
+  samples: number;
+  seed: number;
+  distribution: Distribution;
+  /** Share of samples in which every net and latch passes, with its 95 % Wilson score interval. */
+  yield: number;
+  interval: [number, number];
+  /** Per judged net: the smallest, 1st-percentile and median noise margin over the samples (volts), and the samples it failed in. */
+  nets: { net: string; min: number; p1: number; median: number; failures: number }[];
+  /** The parameters whose deviation goes most with failing (point-biserial correlation), strongest first; empty when none failed or all did. */
+  correlated: { kind: LocalParameter['kind']; target: string; correlation: number }[];
+  /** The first failing samples' indices, to repeat them. */
+  failing: number[];
+}
+
+/**
+ * The Wilson score interval for a proportion (E. B. Wilson, "Probable inference, the law
+ * of succession, and statistical inference", J. Am. Stat. Assoc., 1927), z = 1.96.
+ */
+export function wilsonInterval(successes: number, n: number, z = 1.96): [number, number] {
+  if (n === 0) return [0, 1];
+  const p = successes / n;
+  const z2 = z * z;
+  const centre = (p + z2 / (2 * n)) / (1 + z2 / n);
+  const half = (z * Math.sqrt((p * (1 - p)) / n + z2 / (4 * n * n))) / (1 + z2 / n);
+  return [Math.max(0, centre - half), Math.min(1, centre + half)];
+}
+
+/** Sums up the outcomes of samples 0…N−1 (in that order). */
+export function summarizeSamples(setup: SamplingSetup, parameters: readonly LocalParameter[], outcomes: readonly SampleOutcome[]): MonteCarloResult {
+  const n = outcomes.length;
+  const passed = outcomes.filter((o) => o.pass).length;
+  const quantile = (sorted: number[], q: number) => (sorted.length === 0 ? NaN : sorted[Math.min(sorted.length - 1, Math.floor(q * (sorted.length - 1)))]!);
+  const nets = setup.thresholds.map((t, k) => {
+    const ms = outcomes.map((o) => o.margins[k]!).filter((m) => !Number.isNaN(m)).sort((a, b) => a - b);
+    return { net: t.net, min: ms[0] ?? NaN, p1: quantile(ms, 0.01), median: quantile(ms, 0.5), failures: ms.filter((m) => m < setup.requiredMargin).length };
+  });
+  const correlated: MonteCarloResult['correlated'] = [];
+  if (passed > 0 && passed < n) {
+    const fail = outcomes.map((o) => (o.pass ? 0 : 1));
+    const fm = (n - passed) / n;
+    const fs = Math.sqrt(fm * (1 - fm));
+    parameters.forEach((p, i) => {
+      const d = outcomes.map((o) => o.deviations[i]!);
+      const dm = d.reduce((a, b) => a + b, 0) / n;
+      const ds = Math.sqrt(d.reduce((a, b) => a + (b - dm) ** 2, 0) / n);
+      if (ds === 0) return;
+      const cov = d.reduce((a, b, k) => a + (b - dm) * (fail[k]! - fm), 0) / n;
+      correlated.push({ kind: p.kind, target: p.target, correlation: cov / (ds * fs) });
+    });
+    correlated.sort((a, b) => Math.abs(b.correlation) - Math.abs(a.correlation));
+  }
+  return {
+    samples: n,
+    seed: setup.seed,
+    distribution: setup.distribution,
+    yield: n === 0 ? NaN : passed / n,
+    interval: wilsonInterval(passed, n),
+    nets,
+    correlated: correlated.slice(0, 5),
+    failing: outcomes.flatMap((o, k) => (o.pass ? [] : [k])).slice(0, 10),
+  };
+}
