@@ -3,6 +3,7 @@ import { buildStageGraph, loadDesign } from '../lib/index.js';
 import { generateRegister } from './generate.js';
 import { againstDense, benchSizes, iterationAgainstModels } from './solverBench.js';
 import { benchCheck } from './checkBench.js';
+import { benchDemoYield, benchSampling } from './samplingBench.js';
 
 /**
  * `npm run bench`: measures, in one run, what the goals in docs/PERFORMANCE.md are about,
@@ -97,6 +98,23 @@ const checkTable = [
 ].join('\n');
 process.stdout.write(checkTable + '\n');
 
+// ---- Monte Carlo ---------------------------------------------------------------------
+const sampling = await benchSampling(2000, 100, 500);
+const demo1 = await benchDemoYield('nets/crate-tally.tube', 10_000, 1);
+const demo2 = await benchDemoYield('nets/crate-tally.tube', 10_000, 2);
+const samplingTable = [
+  `Measured ${new Date().toISOString().slice(0, 10)} on ${process.platform}/${process.arch}, Node ${process.version}, by \`npm run bench\`.`,
+  '',
+  '| what | 1 worker | 2 workers | speed-up |',
+  '|---|---:|---:|---:|',
+  `| full DC solves per second, generated ${sampling.stages.toLocaleString('en')}-stage register, once running | ${sampling.rate[1]!.toFixed(0)} | **${sampling.rate[2]!.toFixed(0)}** | ${(sampling.rate[2]! / sampling.rate[1]!).toFixed(2)}× |`,
+  `| the same, 500 samples (${500 * sampling.solvesPerSample} solves) with setup | ${(sampling.wholeMs[1]! / 1000).toFixed(2)} s | ${(sampling.wholeMs[2]! / 1000).toFixed(2)} s | ${(sampling.wholeMs[1]! / sampling.wholeMs[2]!).toFixed(2)}× |`,
+  `| 10,000-sample yield of nets/crate-tally.tube, check included | ${(demo1.ms / 1000).toFixed(2)} s | **${(demo2.ms / 1000).toFixed(2)} s** | ${(demo1.ms / demo2.ms).toFixed(2)}× |`,
+  '',
+  `- Goals (issue #5): ≥ 300 full DC solves per second at 2,000 stages on both cores; a 10,000-sample yield of the demo in under 10 s. The demo's yield: ${(100 * demo2.yield).toFixed(2)} % (the same with 1 worker: ${demo1.yield === demo2.yield ? 'yes' : 'NO'}).`,
+].join('\n');
+process.stdout.write(samplingTable + '\n');
+
 if (process.argv.includes('--write')) {
   const path = new URL('../../docs/PERFORMANCE.md', import.meta.url);
   let doc = readFileSync(path, 'utf8');
@@ -111,6 +129,7 @@ if (process.argv.includes('--write')) {
   put('front-end', table);
   put('solver', solverTable);
   put('check', checkTable);
+  put('sampling', samplingTable);
   writeFileSync(path, doc);
   process.stdout.write('docs/PERFORMANCE.md updated\n');
 }

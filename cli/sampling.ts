@@ -19,22 +19,23 @@ export const MAX_SAMPLES = 1_000_000;
 export async function runSamples(design: Design, setup: SamplingSetup, samples: number, workers: number, io: CliIo): Promise<MonteCarloResult> {
   const bar = io.stderrIsTTY ? new SingleBar({ stream: process.stderr, format: 'samples [{bar}] {value}/{total} {eta_formatted} left', hideCursor: true }) : undefined;
   bar?.start(samples, 0);
-  const sampler = new Sampler(design, setup);
   const threads = Math.max(1, Math.min(workers, samples));
+  const parameters = Sampler.parametersOf(design, setup);
   let outcomes: SampleOutcome[];
   try {
     if (threads === 1) {
+      const sampler = new Sampler(design, setup);
       outcomes = [];
       for (let k = 0; k < samples; k++) {
         outcomes.push(sampler.run(k));
         if (k % 8 === 7) bar?.increment(8);
       }
-    } else outcomes = await inThreads(design, setup, samples, threads, sampler.parameters.length, (n) => bar?.increment(n));
+    } else outcomes = await inThreads(design, setup, samples, threads, parameters.length, (n) => bar?.increment(n));
   } finally {
     bar?.update(samples);
     bar?.stop();
   }
-  return summarizeSamples(setup, sampler.parameters, outcomes);
+  return summarizeSamples(setup, parameters, outcomes);
 }
 
 /** How many workers by default: every core the machine offers. */

@@ -63,4 +63,4 @@ export { cutoffMargin, driveMargin, cutoffGrid, CUTOFF_FRACTION, type GridMargin
 export { fanoutHeadroom, standardLoad, MAX_EXTRA_LOADS, type StandardLoad } from './analysis/fanoutHeadroom.js';
 export { latchCheck, type LatchInput, type LatchResult } from './analysis/latchCheck.js';
 export { checkMargins, type CheckOptions, type CheckResult, type NetCheck, type Cause, type ReceiverMargin } from './analysis/check.js';
-export { DISTRIBUTIONS, GRADED_INNER, Sampler, drawSample, samplingThresholds, summarizeSamples, wilsonInterval, type Distribution, type MonteCarloResult, type SampleOutcome, type SamplingSetup } from './analysis/monteCarlo.js';
+export { DISTRIBUTIONS, GRADED_INNER, SampleDrawer, Sampler, drawSample, samplingThresholds, summarizeSamples, wilsonInterval, type Distribution, type MonteCarloResult, type SampleOutcome, type SamplingSetup } from './analysis/monteCarlo.js';

@@ -49,40 +49,59 @@ export interface SampleOutcome {
 }
 
 /**
- * A small, fast, seedable generator (mulberry32, public domain): the stream of sample k
- * is seeded from the run's seed and k alone, so a sample's values do not depend on which
- * worker draws it or in what order.
+ * Draws the values of sample `index` for a list of bands, in band order. Sample k's values
+ * come from a stream seeded with the run's seed and k alone (mulberry32, a small public
+ * domain generator), so they do not depend on which worker draws them or in what order.
+ * The bands are unpacked into typed arrays once, as a run draws thousands of samples.
  */
-function stream(seed: number, sample: number): () => number {
-  let a = (Math.imul(seed ^ 0x9e3779b9, 0x85ebca6b) ^ Math.imul(sample + 1, 0xc2b2ae35)) >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+export class SampleDrawer {
+  private readonly low: Float64Array;
+  private readonly mid: Float64Array;
+  private readonly half: Float64Array;
+  private readonly nominal: Float64Array;
+  private readonly graded: Uint8Array;
+
+  constructor(
+    bands: readonly LocalParameter[],
+    readonly distribution: Distribution,
+    readonly seed: number,
+  ) {
+    this.low = Float64Array.from(bands, (b) => b.low);
+    this.mid = Float64Array.from(bands, (b) => (b.low + b.high) / 2);
+    this.half = Float64Array.from(bands, (b) => (b.high - b.low) / 2);
+    this.nominal = Float64Array.from(bands, (b) => b.nominal);
+    this.graded = Uint8Array.from(bands, (b) => (distribution === 'graded' && b.kind === 'resistor' ? 1 : 0));
+  }
+
+  draw(index: number, out: Float64Array = new Float64Array(this.low.length)): Float64Array {
+    let a = (Math.imul(this.seed ^ 0x9e3779b9, 0x85ebca6b) ^ Math.imul(index + 1, 0xc2b2ae35)) >>> 0;
+    const next = () => {
+      a = (a + 0x6d2b79f5) >>> 0;
+      let t = a;
+      t = Math.imul(t ^ (t >>> 15), t | 1);
+      t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+      return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+    };
+    const normal = this.distribution === 'normal';
+    for (let i = 0; i < out.length; i++) {
+      const half = this.half[i]!;
+      if (half === 0) out[i] = this.nominal[i]!;
+      else if (normal) {
+        // Box–Muller: two uniforms give one standard normal; the half width is 3σ.
+        const u = 1 - next();
+        out[i] = this.mid[i]! + (half / 3) * Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * next());
+      } else if (this.graded[i] === 1) {
+        const side = next() < 0.5 ? -1 : 1;
+        out[i] = this.mid[i]! + side * half * (GRADED_INNER + (1 - GRADED_INNER) * next());
+      } else out[i] = this.low[i]! + 2 * half * next();
+    }
+    return out;
+  }
 }
 
-/** Draws one value per band for sample `index`, in band order. */
+/** Draws one value per band for sample `index`, in band order (see `SampleDrawer`). */
 export function drawSample(bands: readonly LocalParameter[], distribution: Distribution, seed: number, index: number): Float64Array {
-  const next = stream(seed, index);
-  return Float64Array.from(bands, (b) => {
-    const mid = (b.low + b.high) / 2;
-    const half = (b.high - b.low) / 2;
-    if (half === 0) return b.nominal;
-    if (distribution === 'normal') {
-      // Box–Muller: two uniforms give one standard normal.
-      const u = 1 - next();
-      const z = Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * next());
-      return mid + (half / 3) * z;
-    }
-    if (distribution === 'graded' && b.kind === 'resistor') {
-      const side = next() < 0.5 ? -1 : 1;
-      return mid + side * half * (GRADED_INNER + (1 - GRADED_INNER) * next());
-    }
-    return b.low + (b.high - b.low) * next();
-  });
+  return new SampleDrawer(bands, distribution, seed).draw(index);
 }
 
 /**
@@ -96,20 +115,26 @@ export function drawSample(bands: readonly LocalParameter[], distribution: Distr
 export class Sampler {
   readonly parameters: LocalParameter[];
   private readonly problem: LocalProblem;
+  private readonly drawer: SampleDrawer;
+  private readonly values: Float64Array;
   private readonly states: { hints: StateHint[]; x: Float64Array }[] = [];
   private readonly judged: { terminal: number; threshold: number; vil: number; vih: number }[];
   private readonly latchNets: { terminal: number; threshold: number }[];
+
+  /** The parameters a run of this design draws, in order, without preparing the solves. */
+  static parametersOf(design: Design, setup: SamplingSetup): LocalParameter[] {
+    return wholeDesign(design, setup).parameters;
+  }
 
   constructor(
     readonly design: Design,
     readonly setup: SamplingSetup,
   ) {
-    const graph = buildStageGraph(design);
-    const index = indexDesign(design, graph);
-    const scenario: AgeingScenario = findScenario(setup.scenario) ?? findScenario('new')!;
-    const region = buildRegion(index, graph.nets.map((n) => n.name), [], undefined, Infinity);
-    this.parameters = regionParameters(design, region, scenario);
+    const { graph, region, scenario, parameters } = wholeDesign(design, setup);
+    this.parameters = parameters;
     this.problem = new LocalProblem(design, region, scenario);
+    this.drawer = new SampleDrawer(this.parameters, setup.distribution, setup.seed);
+    this.values = new Float64Array(this.parameters.length);
     const c = this.problem.circuit;
     const terminal = (net: string) => c.terminalOf.get(net)!;
     this.judged = setup.thresholds.map((t) => ({ terminal: terminal(t.net), threshold: logicThreshold(design, t.net), vil: t.vil, vih: t.vih }));
@@ -129,8 +154,12 @@ export class Sampler {
 
   /** Solves sample `index` of the run. */
   run(index: number): SampleOutcome {
-    const values = drawSample(this.parameters, this.setup.distribution, this.setup.seed, index);
-    const deviations = Float64Array.from(this.parameters, (p, i) => (p.high > p.low ? (2 * (values[i]! - p.low)) / (p.high - p.low) - 1 : 0));
+    const values = this.drawer.draw(index, this.values);
+    const deviations = new Float64Array(values.length);
+    for (let i = 0; i < values.length; i++) {
+      const p = this.parameters[i]!;
+      if (p.high > p.low) deviations[i] = (2 * (values[i]! - p.low)) / (p.high - p.low) - 1;
+    }
     const margins = new Float64Array(this.judged.length).fill(NaN);
     let pass = this.states.length > 0;
     for (const state of this.states) {
@@ -152,6 +181,14 @@ export class Sampler {
     }
     return { pass, margins, deviations };
   }
+}
+
+/** The whole design as one region (every logic net a target, no boundaries), and its parameters. */
+function wholeDesign(design: Design, setup: SamplingSetup) {
+  const graph = buildStageGraph(design);
+  const scenario: AgeingScenario = findScenario(setup.scenario) ?? findScenario('new')!;
+  const region = buildRegion(indexDesign(design, graph), graph.nets.map((n) => n.name), [], undefined, Infinity);
+  return { graph, region, scenario, parameters: regionParameters(design, region, scenario) };
 }
 
 export interface MonteCarloResult {

@@ -12,6 +12,13 @@ export interface NewtonSettings {
   /** Largest change of any node voltage in one iteration (volts); Infinity for undamped Newton. */
   maxStep: number;
   maxIterations: number;
+  /**
+   * Converged once the residual is below 1e-11 A and the last step below this (volts;
+   * 1e-9 when absent). A looser step is safe where the start is close (Monte Carlo from
+   * the nominal solution): Newton converges quadratically, so the point after a 1 µV step
+   * is far closer still, and the residual is measured at the point accepted.
+   */
+  stepTolerance?: number;
   /** Pins: conductance of each pinned node to its target (0 where not pinned). */
   pinSiemens?: Float64Array;
   pinVolts?: Float64Array;
@@ -241,6 +248,7 @@ export class DcSystem {
     let lastNorm = Infinity;
     let applied = 0;
     let halvings = 0;
+    const stepTolerance = s.stepTolerance ?? 1e-9;
     for (let it = 1; it <= s.maxIterations; it++) {
       this.iterationCount++;
       this.assemble(x, s);
@@ -251,7 +259,7 @@ export class DcSystem {
         residual = Math.max(residual, r);
         norm += r * r;
       }
-      if (residual < 1e-11 && lastStep < 1e-9) return { converged: true, iterations: it, residual };
+      if (residual < 1e-11 && lastStep < stepTolerance) return { converged: true, iterations: it, residual };
       if (norm > lastNorm && halvings < 4 && applied > 0 && s.maxStep !== Infinity) {
         // Take back half of the last step and look again.
         applied /= 2;

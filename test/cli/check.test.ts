@@ -1,5 +1,7 @@
+import { spawnSync } from 'node:child_process';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { demoDesigns } from '../helpers.js';
+import { ROOT, demoDesigns } from '../helpers.js';
 import { runCommand as run } from '../cliRun.js';
 
 describe('tubemargin check', () => {
@@ -81,5 +83,36 @@ describe('tubemargin check', () => {
     const r = await run(['check', 'nets/crate-tally.tube']);
     expect(r.out).toContain('CAUTION: hv (up to 158 V), neg (up to 78.8 V), LINE_A (up to 150 V), LINE_B (up');
     expect(r.out).toContain('licensed person');
+  });
+});
+
+describe('tubemargin check --samples', () => {
+  it('adds the yield with its interval, the margin distributions and the failing samples', async () => {
+    const r = await run(['check', 'nets/nor-adder.tube', '--samples', '400', '--seed', '7', '--workers', '1']);
+    expect(r.out).toMatch(/Monte Carlo: 400 samples \(uniform, seed 7\): yield \d+\.\d %, 95 % interval/);
+    expect(r.out).toMatch(/\n {2}net +min +1 % +median +failed\n/);
+    const json = JSON.parse((await run(['check', 'nets/nor-adder.tube', '--samples', '400', '--seed', '7', '--workers', '1', '--json'])).out);
+    expect(json.monteCarlo.samples).toBe(400);
+    expect(json.monteCarlo.interval[0]).toBeLessThanOrEqual(json.monteCarlo.yield);
+    expect(json.monteCarlo.interval[1]).toBeGreaterThanOrEqual(json.monteCarlo.yield);
+  });
+
+  it('gives byte-identical JSON for a seed with 1 and with 2 worker threads', () => {
+    // Worker threads run the compiled tool, so this runs the built binary as a user would.
+    const once = (workers: string) =>
+      spawnSync(process.execPath, [join(ROOT, 'bin/tubemargin.js'), 'check', 'nets/nor-adder.tube', '--samples', '300', '--seed', '5', '--distribution', 'normal', '--workers', workers, '--json'], { cwd: ROOT, encoding: 'utf8' });
+    const one = once('1');
+    const two = once('2');
+    expect(one.status).toBe(two.status);
+    expect(JSON.parse(one.stdout).monteCarlo.samples).toBe(300);
+    expect(two.stdout).toBe(one.stdout);
+  });
+
+  it('refuses a bad --samples, --seed, --distribution or --workers with exit code 2', async () => {
+    for (const args of [['--samples', '0'], ['--samples', 'many'], ['--seed', '-1'], ['--distribution', 'lumpy'], ['--workers', '0']]) {
+      const r = await run(['check', 'nets/nor-adder.tube', ...args]);
+      expect(r.code).toBe(2);
+      expect(r.err).toMatch(/^error: --(samples|seed|distribution|workers) takes/);
+    }
   });
 });
