@@ -1,4 +1,4 @@
-import { AGEING_SCENARIOS, checkMargins, DISTRIBUTIONS, findScenario, samplingThresholds, type Distribution } from '../lib/index.js';
+import { AGEING_SCENARIOS, checkMargins, DISTRIBUTIONS, findScenario, samplingThresholds, shrinkFailure, type Distribution } from '../lib/index.js';
 import { checkToJson, renderCheck } from '../lib/report/checkReport.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
@@ -24,6 +24,8 @@ parameters whose corners make them weak.
 random values (--distribution ${DISTRIBUTIONS.join(', ')}; --seed S), the yield
 with its 95 % interval, each net's margin distribution and the parts that go
 with failures; --workers K spreads it over K threads (the same result).
+--shrink searches for a failing set of part values (from the worst corners,
+then 300 random ones) and shrinks it to the smallest deviations that fail.
 Exit code 0 when everything passes, 1 when a margin or a latch fails, 2 for
 bad input.`;
 
@@ -35,7 +37,11 @@ export interface CheckCliOptions extends GlobalOptions {
   seed?: string;
   distribution?: string;
   workers?: string;
+  shrink?: boolean;
 }
+
+/** Random cases `--shrink` tries after the worst corners. */
+const SHRINK_RUNS = 300;
 
 /** A whole number in [min, max], or undefined. */
 function wholeNumber(text: string | undefined, min: number, max: number): number | undefined {
@@ -70,9 +76,10 @@ export async function runCheck(file: string, options: CheckCliOptions, io: CliIo
     return EXIT.badInput;
   }
   const sampled = samples > 0 ? await runSamples(loaded.design, { seed, distribution, scenario: scenario.name, requiredMargin: result.requiredMargin, thresholds: samplingThresholds(result) }, samples, workers, io) : undefined;
-  if (options.json) io.stdout(JSON.stringify(checkToJson(loaded.design, result, sampled), null, 2) + '\n');
+  const shrunk = options.shrink ? shrinkFailure(loaded.design, result, { seed, runs: SHRINK_RUNS }) : undefined;
+  if (options.json) io.stdout(JSON.stringify(checkToJson(loaded.design, result, sampled, shrunk), null, 2) + '\n');
   else {
-    const text = renderCheck(loaded.design, result, file, sampled);
+    const text = renderCheck(loaded.design, result, file, sampled, shrunk);
     const out = chalkFor(io, 'stdout');
     io.stdout(text.replace(/^(PASS|FAIL)/m, (w) => (w === 'PASS' ? out.green.bold(w) : out.red.bold(w))));
   }

@@ -72,6 +72,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--seed <S>', 'seed of the Monte Carlo run (default 1): the same seed, the same result')
     .option('--distribution <D>', 'how values are drawn: uniform, normal (tolerance = 3σ), graded (default uniform)')
     .option('--workers <K>', 'threads for the Monte Carlo run (default: every core)')
+    .option('--shrink', 'find a failing set of part values and shrink it to the smallest')
     .option('--json', 'print the report as tubemargin.report/1 JSON')
     .action(async (file: string, opts: CheckCliOptions) => {
       code = await runCheck(file, { ...program.opts(), ...opts }, io);

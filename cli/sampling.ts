@@ -57,7 +57,7 @@ async function inThreads(design: Design, setup: SamplingSetup, samples: number, 
             if (!m.pass) return;
             const out: SampleOutcome[] = [];
             for (let k = 0; k < to - from; k++) {
-              out.push({ pass: m.pass[k] === 1, margins: m.margins!.subarray(k * judged, (k + 1) * judged), deviations: m.deviations!.subarray(k * params, (k + 1) * params) });
+              out.push({ pass: (m.pass[k]! & 1) === 1, lost: (m.pass[k]! & 2) === 2, margins: m.margins!.subarray(k * judged, (k + 1) * judged), deviations: m.deviations!.subarray(k * params, (k + 1) * params) });
             }
             resolve(out);
             void worker.terminate();

@@ -64,3 +64,5 @@ export { fanoutHeadroom, standardLoad, MAX_EXTRA_LOADS, type StandardLoad } from
 export { latchCheck, type LatchInput, type LatchResult } from './analysis/latchCheck.js';
 export { checkMargins, type CheckOptions, type CheckResult, type NetCheck, type Cause, type ReceiverMargin } from './analysis/check.js';
 export { DISTRIBUTIONS, GRADED_INNER, SampleDrawer, Sampler, drawSample, samplingThresholds, summarizeSamples, wilsonInterval, type Distribution, type MonteCarloResult, type SampleOutcome, type SamplingSetup } from './analysis/monteCarlo.js';
+export { analyzeAt, deviationsOf, valueAt, type Analysis, type Deviations } from './analysis/analyzeAt.js';
+export { shrinkFailure, type Deviation, type ShrinkResult } from './analysis/shrink.js';

@@ -42,6 +42,8 @@ export function samplingThresholds(check: CheckResult): SamplingSetup['threshold
 /** What one sample gave. */
 export interface SampleOutcome {
   pass: boolean;
+  /** True when a latch lost a state it held at nominal values, or a state had no solution. */
+  lost: boolean;
   /** Per judged net (setup order), its smallest noise margin over the states solved; NaN when no state solved. */
   margins: Float64Array;
   /** Per parameter, where the sample put it in its band: −1 at the low end, +1 at the high end. */
@@ -154,23 +156,32 @@ export class Sampler {
 
   /** Solves sample `index` of the run. */
   run(index: number): SampleOutcome {
-    const values = this.drawer.draw(index, this.values);
+    return this.at(this.drawer.draw(index, this.values));
+  }
+
+  /** Solves at given parameter values (in `parameters` order). */
+  at(values: Float64Array): SampleOutcome {
     const deviations = new Float64Array(values.length);
     for (let i = 0; i < values.length; i++) {
       const p = this.parameters[i]!;
       if (p.high > p.low) deviations[i] = (2 * (values[i]! - p.low)) / (p.high - p.low) - 1;
     }
     const margins = new Float64Array(this.judged.length).fill(NaN);
-    let pass = this.states.length > 0;
+    let lost = this.states.length === 0;
+    let pass = !lost;
     for (const state of this.states) {
       if (!this.problem.solveFrom(values, state.x)) {
         pass = false;
+        lost = true;
         continue;
       }
       const volts = (t: number) => this.problem.volts(t);
       state.hints.forEach((h, k) => {
         const l = this.latchNets[k]!;
-        if (volts(l.terminal) > l.threshold !== h.high) pass = false;
+        if (volts(l.terminal) > l.threshold !== h.high) {
+          pass = false;
+          lost = true;
+        }
       });
       this.judged.forEach((j, k) => {
         const v = volts(j.terminal);
@@ -179,7 +190,7 @@ export class Sampler {
         if (m < this.setup.requiredMargin) pass = false;
       });
     }
-    return { pass, margins, deviations };
+    return { pass, lost, margins, deviations };
   }
 }
 

@@ -2,6 +2,7 @@ import type { CheckResult, Cause, NetCheck } from '../analysis/check.js';
 import { MAX_EXTRA_LOADS } from '../analysis/fanoutHeadroom.js';
 import { CUTOFF_FRACTION } from '../analysis/gridMargins.js';
 import type { MonteCarloResult } from '../analysis/monteCarlo.js';
+import type { ShrinkResult } from '../analysis/shrink.js';
 import type { Design } from '../design/model.js';
 import { cutList, formatSI, table, wrap } from './format.js';
 import { safetyCautions } from './safety.js';
@@ -51,6 +52,8 @@ export interface ReportJson {
     correlated: { parameter: string; kind: string; correlation: number }[];
     failingSamples: number[];
   };
+  /** Present with `--shrink`. */
+  shrink?: { found: boolean; seed: number; runs: number; shrinks: number; deviations: { parameter: string; kind: string; deviation: number; value: number }[]; failing: string[] };
   definitions: Record<string, string>;
   cautions: string[];
 }
@@ -70,7 +73,7 @@ export const DEFINITIONS: Record<string, string> = {
 
 const num = (x: number | undefined) => (x === undefined || !Number.isFinite(x) ? null : x);
 
-export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResult): ReportJson {
+export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResult, shrunk?: ShrinkResult): ReportJson {
   const json: ReportJson = {
     schema: 'tubemargin.report/1',
     title: r.title,
@@ -128,6 +131,16 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
       failingSamples: mc.failing,
     };
   }
+  if (shrunk) {
+    json.shrink = {
+      found: shrunk.found,
+      seed: shrunk.seed,
+      runs: shrunk.runs,
+      shrinks: shrunk.shrinks,
+      deviations: shrunk.deviations.map((d) => ({ parameter: d.target, kind: d.kind, deviation: d.deviation, value: d.value })),
+      failing: shrunk.failing,
+    };
+  }
   return json;
 }
 
@@ -171,6 +184,18 @@ function renderSamples(mc: MonteCarloResult, required: number): string[] {
   return out;
 }
 
+/** The `--shrink` section: the smallest failing set of part values found, or that none was. */
+function renderShrink(s: ShrinkResult): string[] {
+  if (!s.found) return indented(`Shrink: no failing set of part values found at the worst corners or in ${s.runs} random cases (seed ${s.seed}).`, '', '  ');
+  const out = indented(`Shrink: the smallest failing set of part values found (seed ${s.seed}, ${s.shrinks} shrinking steps); every other part nominal; band shares run from −100 % (low end) to +100 % (high end). It fails: ${s.failing.join(', ')}.`, '', '  ');
+  const unit = { resistor: 'Ω', rail: 'V', drive: 'V', perveance: '' } as const;
+  for (const d of s.deviations) {
+    const value = d.kind === 'perveance' ? `emission ${Math.round(d.value * 100)} % of nominal` : formatSI(d.value, unit[d.kind]);
+    out.push(`  ${d.kind} ${d.target}: ${value} (${d.deviation >= 0 ? '+' : '−'}${Math.round(Math.abs(d.deviation) * 100)} % of its band)`);
+  }
+  return out;
+}
+
 /** Prose wrapped to the report's width, its first line after `first`, the rest after `rest`. */
 function indented(text: string, first: string, rest: string): string[] {
   return wrap(text, REPORT_COLUMNS - first.length, rest.slice(first.length)).map((line) => first + line);
@@ -186,7 +211,7 @@ function statusText(n: NetCheck): string {
  * (holds, SNM, switches, trigger margin); the weakest three nets explained by the
  * parameters whose corners make them weak; what each figure means. Lines fit 80 columns.
  */
-export function renderCheck(design: Design, r: CheckResult, source: string, mc?: MonteCarloResult): string {
+export function renderCheck(design: Design, r: CheckResult, source: string, mc?: MonteCarloResult, shrunk?: ShrinkResult): string {
   const out: string[] = [];
   const failing = r.nets.filter((n) => n.status === 'fail');
   const badLatches = r.latches.filter((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined));
@@ -272,6 +297,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
     for (const i of l.inputs) if (!i.switches && i.note === undefined) out.push(...indented(`${i.input} at its weakest asserted level ${v(i.asserted)} V does not switch it`, '  ', '    '));
   }
   if (mc) out.push('', ...renderSamples(mc, r.requiredMargin));
+  if (shrunk) out.push('', ...renderShrink(shrunk));
   out.push('');
   out.push('What the figures mean');
   for (const [k, text] of Object.entries(DEFINITIONS)) out.push(...indented(`${k}: ${text}`, '  ', '    '));

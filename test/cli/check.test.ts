@@ -116,3 +116,15 @@ describe('tubemargin check --samples', () => {
     }
   });
 });
+
+describe('tubemargin check --shrink', () => {
+  it('prints the smallest failing set of part values found, within 80 columns, and carries it in the JSON', async () => {
+    const r = await run(['check', 'nets/nor-adder.tube', '--shrink']);
+    expect(r.out).toMatch(/^Shrink: the smallest failing set of part values found/m);
+    expect(r.out).toMatch(/\n {2}(perveance|resistor|rail) \S+: .* % of its band\)/);
+    for (const line of r.out.split('\n')) expect(line.length, line).toBeLessThanOrEqual(80);
+    const json = JSON.parse((await run(['check', 'nets/nor-adder.tube', '--shrink', '--json'])).out);
+    expect(json.shrink.found).toBe(true);
+    expect(json.shrink.deviations.length).toBeGreaterThan(0);
+  });
+});
