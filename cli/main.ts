@@ -2,6 +2,7 @@ import { Command, CommanderError } from 'commander';
 import { processIo, type CliIo } from './io.js';
 import { EXIT } from './load.js';
 import { CHECK_HELP, CHECK_SUMMARY, runCheck, type CheckCliOptions } from './check.js';
+import { SWEEP_HELP, SWEEP_SUMMARY, runSweep, type SweepCliOptions } from './sweep.js';
 import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
 import { SOLVE_HELP, SOLVE_SUMMARY, runSolve, type SolveCliOptions } from './solve.js';
 import { TUBES_SUMMARY, runTubes } from './tubes.js';
@@ -16,6 +17,7 @@ Examples:
   tubemargin check nets/nor-adder.tube           worst-case margins: pass or fail
   tubemargin check nets/crate-tally.tube --age end-of-life --margin 10
   tubemargin check nets/nor-adder.tube --samples 10000 --seed 7
+  tubemargin sweep nets/nor-adder.tube --rail bp=18:30:1 --rail bias=-16:-6:1
   tubemargin tubes                               the tube library
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
@@ -76,6 +78,20 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--json', 'print the report as tubemargin.report/1 JSON')
     .action(async (file: string, opts: CheckCliOptions) => {
       code = await runCheck(file, { ...program.opts(), ...opts }, io);
+    });
+
+  program
+    .command('sweep')
+    .summary(SWEEP_SUMMARY)
+    .description(SWEEP_SUMMARY + '\n' + SWEEP_HELP)
+    .argument('<file>', 'design file (.tube text or .json)')
+    .option('--rail <NAME=FROM:TO:STEP>', 'a rail to sweep, in volts; give one or two', collect, [])
+    .option('--heater <F>', 'heater voltage as a fraction of nominal (default 1)')
+    .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
+    .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
+    .option('--json', 'print the map as tubemargin.sweep/1 JSON')
+    .action((file: string, opts: SweepCliOptions) => {
+      code = runSweep(file, { ...program.opts(), ...opts }, io);
     });
 
   program

@@ -52,7 +52,7 @@ export { sweepTransfer, type SweepOptions } from './analysis/transferCurve.js';
 export { applyParameters, corners, designParameters, MAX_CORNER_PARAMETERS, type DesignParameter } from './analysis/parameters.js';
 export { triggerMargin, type TriggerAnswer, type TriggerQuestion } from './analysis/switching.js';
 export { adjointSlopes, worstCaseVoltage, type WorstCaseAnswer, type WorstCaseQuestion } from './analysis/worstCase.js';
-export { AGEING_SCENARIOS, emissionBand, findScenario, type AgeingScenario } from './analysis/ageing.js';
+export { AGEING_SCENARIOS, emissionBand, findScenario, heaterEmission, type AgeingScenario } from './analysis/ageing.js';
 export { searchVertex, type Band, type Probe, type VertexResult } from './analysis/vertex.js';
 export { buildRegion, indexDesign, type DesignIndex, type Region } from './analysis/region.js';
 export { LocalProblem, regionParameters, type LocalParameter } from './analysis/localProblem.js';
@@ -66,3 +66,4 @@ export { checkMargins, type CheckOptions, type CheckResult, type NetCheck, type 
 export { DISTRIBUTIONS, GRADED_INNER, SampleDrawer, Sampler, drawSample, samplingThresholds, summarizeSamples, wilsonInterval, type Distribution, type MonteCarloResult, type SampleOutcome, type SamplingSetup } from './analysis/monteCarlo.js';
 export { analyzeAt, deviationsOf, valueAt, type Analysis, type Deviations } from './analysis/analyzeAt.js';
 export { shrinkFailure, type Deviation, type ShrinkResult } from './analysis/shrink.js';
+export { axisValues, MAX_SWEEP_POINTS, sweepRails, type SweepAxis, type RailSweepOptions, type SweepPoint, type RailSweepResult } from './analysis/sweep.js';

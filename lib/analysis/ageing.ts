@@ -14,6 +14,8 @@ export interface AgeingScenario {
   heater: number;
   /** Largest cathode interface resistance of a section (ohms; 0: none). */
   interfaceOhms: number;
+  /** Emission of every tube, strong and weak alike, as a fraction of that at nominal heater voltage (a supply sweep's heater setting; 1 when absent). */
+  emissionScale?: number;
 }
 
 /**
@@ -38,7 +40,17 @@ export function findScenario(name: string): AgeingScenario | undefined {
   return AGEING_SCENARIOS.find((s) => s.name === name);
 }
 
-/** A section's emission band under a scenario: [(1 − spread)·end of life·heater, 1 + spread]. */
+/** A section's emission band under a scenario: [(1 − spread)·end of life·heater, 1 + spread], both ends times the emission scale. */
 export function emissionBand(spread: number, scenario: AgeingScenario): { low: number; high: number } {
-  return { low: (1 - spread) * scenario.endOfLife * scenario.heater, high: 1 + spread };
+  const scale = scenario.emissionScale ?? 1;
+  return { low: (1 - spread) * scenario.endOfLife * scenario.heater * scale, high: (1 + spread) * scale };
+}
+
+/**
+ * Emission at a heater voltage `fraction` of nominal, taken as the square of the fraction
+ * (0.9 gives 81 %, in line with the low-heater scenario's 80 % at 90 %): a stated
+ * assumption for oxide cathodes near their rated temperature (common practice, no source).
+ */
+export function heaterEmission(fraction: number): number {
+  return fraction * fraction;
 }

@@ -18,6 +18,8 @@ export interface CheckOptions {
   scenario?: AgeingScenario;
   /** The stage graph, when the caller has it. */
   graph?: StageGraph;
+  /** Work out fan-out headroom (true when absent); a supply sweep, which needs only the verdict, leaves it out. */
+  headroom?: boolean;
 }
 
 /** One parameter's part in making a level weak. */
@@ -132,7 +134,7 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   }
 
   const inLoop = new Set(graph.loops.flatMap((l) => l.nets));
-  const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, flatInputs, inLoop, required, load, designWide));
+  const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, flatInputs, inLoop, options.headroom ?? true, required, load, designWide));
   nets.sort((a, b) => (a.status === 'unchecked') !== (b.status === 'unchecked') ? (a.status === 'unchecked' ? 1 : -1) : a.slack - b.slack || compareNames(a.name, b.name));
   // The parameters behind the weakness, for every failing net and the three weakest classes.
   const weakestClasses = new Set(nets.map((n) => n.classId).filter((c, i, all) => all.indexOf(c) === i).slice(0, 3));
@@ -162,6 +164,7 @@ function judgeNet(
   receivers: ReceiverMargin[],
   flatInputs: ReadonlyMap<string, string[]>,
   inLoop: ReadonlySet<string>,
+  withHeadroom: boolean,
   required: number,
   load: StandardLoad | undefined,
   designWide: { vil: number; vih: number } | undefined,
@@ -231,7 +234,7 @@ function judgeNet(
   const weakest = limits[0] && { what: limits[0].what, causes: [] };
   const thresholdsForHeadroom = vilMin !== undefined && vihMax !== undefined ? { vil: vilMin, vih: vihMax } : designWide;
   let headroom: number | undefined;
-  if (load && thresholdsForHeadroom && net.polarity !== 'input') {
+  if (withHeadroom && load && thresholdsForHeadroom && net.polarity !== 'input') {
     const key = `headroom|${chain.classOf(name)}|${thresholdsForHeadroom.vil}|${thresholdsForHeadroom.vih}`;
     headroom = chain.memo(key, () => fanoutHeadroom(chain, name, load, thresholdsForHeadroom, required));
   }

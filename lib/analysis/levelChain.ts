@@ -288,7 +288,8 @@ export class LevelChain {
       const net = this.nets.get(name)!;
       if (net.polarity !== 'input') continue;
       const l = this.levels.get(net.name)!;
-      const states = this.inputConfigurations(net).map((on) => this.isHigh(net.name, this.solveCase({ net: net.name, on }).nominal));
+      const closedHigh = this.switchedHigh(net);
+      const states = this.inputConfigurations(net).map((on) => (closedHigh === undefined ? this.isHigh(net.name, this.solveCase({ net: net.name, on }).nominal) : (on === 1) === closedHigh));
       l.canHigh = states.includes(true);
       l.canLow = states.includes(false);
     }
@@ -322,12 +323,21 @@ export class LevelChain {
     return volts > logicThreshold(this.design, net);
   }
 
+  /**
+   * The levels of a net set from outside. With switches to a rail, closed is the state the
+   * rail gives (high for a rail above the net's logic threshold) and open is the other one,
+   * whatever level it reaches: an open level on the wrong side of the threshold is then a
+   * failure of that state, not a second state of the same kind. A drive alone has the one
+   * state its level reads as.
+   */
   private updateInput(net: ChainNet): void {
     const l = this.levels.get(net.name)!;
     Object.assign(l, { highNominal: NaN, highWorst: NaN, lowNominal: NaN, lowWorst: NaN, keys: undefined });
+    const closedHigh = this.switchedHigh(net);
     for (const on of this.inputConfigurations(net)) {
       const r = this.solveCase({ net: net.name, on });
-      if (this.isHigh(net.name, r.nominal)) {
+      const high = closedHigh === undefined ? this.isHigh(net.name, r.nominal) : (on === 1) === closedHigh;
+      if (high) {
         l.highNominal = Math.min(Number.isNaN(l.highNominal) ? Infinity : l.highNominal, r.nominal);
         l.highWorst = Math.min(Number.isNaN(l.highWorst) ? Infinity : l.highWorst, r.worst ?? -Infinity);
       } else {
@@ -336,6 +346,16 @@ export class LevelChain {
       }
     }
     l.keys = undefined;
+  }
+
+  /** For a net with switches to a rail: whether closing them makes it high (their rail is above its threshold); undefined without switches. */
+  private switchedHigh(net: ChainNet): boolean | undefined {
+    if (net.switches.length === 0) return undefined;
+    const sw = this.design.parts.find((p) => p.type === 'switch' && p.name === net.switches[0]);
+    if (!sw || sw.type !== 'switch') return undefined;
+    const rail = sw.a === net.name ? sw.b : sw.a;
+    const volts = rail === 'gnd' ? 0 : (this.design.rails.find((r) => r.name === rail)?.volts ?? 0);
+    return this.isHigh(net.name, volts);
   }
 
   /** The cases of a stage net that give its high level and its low level. */

@@ -54,6 +54,8 @@ export const DIAGNOSTIC_CODES = [
   'hint-not-held',
   'state-undecided',
   'outside-trusted-range',
+  // supply sweeps
+  'sweep-range',
   // JSON designs
   'json-syntax',
   'json-schema',
