@@ -1,8 +1,13 @@
+import { existsSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
+import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import { SingleBar } from 'cli-progress';
 import { designToJson, Sampler, summarizeSamples, type Design, type MonteCarloResult, type SampleOutcome, type SamplingSetup } from '../lib/index.js';
 import type { CliIo } from './io.js';
+
+/** The compiled worker script beside this module. */
+const WORKER = new URL('./sampleWorker.js', import.meta.url);
 
 /** Largest sample count a run takes. */
 export const MAX_SAMPLES = 1_000_000;
@@ -19,7 +24,9 @@ export const MAX_SAMPLES = 1_000_000;
 export async function runSamples(design: Design, setup: SamplingSetup, samples: number, workers: number, io: CliIo): Promise<MonteCarloResult> {
   const bar = io.stderrIsTTY ? new SingleBar({ stream: process.stderr, format: 'samples [{bar}] {value}/{total} {eta_formatted} left', hideCursor: true }) : undefined;
   bar?.start(samples, 0);
-  const threads = Math.max(1, Math.min(workers, samples));
+  // Worker threads run the compiled worker; where it is not there (the sources run directly, as
+  // in the tests) the samples run in this thread, with the same result.
+  const threads = existsSync(fileURLToPath(WORKER)) ? Math.max(1, Math.min(workers, samples)) : 1;
   const parameters = Sampler.parametersOf(design, setup);
   let outcomes: SampleOutcome[];
   try {
@@ -51,7 +58,7 @@ async function inThreads(design: Design, setup: SamplingSetup, samples: number, 
     ranges.map(
       ([from, to]) =>
         new Promise<SampleOutcome[]>((resolve, reject) => {
-          const worker = new Worker(new URL('./sampleWorker.js', import.meta.url), { workerData: { designJson, setup, from, to } });
+          const worker = new Worker(WORKER, { workerData: { designJson, setup, from, to } });
           worker.on('message', (m: { progress: number; pass?: Uint8Array; margins?: Float64Array; deviations?: Float64Array }) => {
             progress(m.progress);
             if (!m.pass) return;
