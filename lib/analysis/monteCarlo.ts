@@ -119,6 +119,9 @@ export class Sampler {
   private readonly problem: LocalProblem;
   private readonly drawer: SampleDrawer;
   private readonly values: Float64Array;
+  /** Each band's low end and 1/(high − low) (0 for a fixed value), for the deviations. */
+  private readonly bandLow: Float64Array;
+  private readonly bandInverse: Float64Array;
   private readonly states: { hints: StateHint[]; x: Float64Array }[] = [];
   private readonly judged: { terminal: number; threshold: number; vil: number; vih: number }[];
   private readonly latchNets: { terminal: number; threshold: number }[];
@@ -137,6 +140,8 @@ export class Sampler {
     this.problem = new LocalProblem(design, region, scenario);
     this.drawer = new SampleDrawer(this.parameters, setup.distribution, setup.seed);
     this.values = new Float64Array(this.parameters.length);
+    this.bandLow = Float64Array.from(this.parameters, (p) => p.low);
+    this.bandInverse = Float64Array.from(this.parameters, (p) => (p.high > p.low ? 1 / (p.high - p.low) : 0));
     const c = this.problem.circuit;
     const terminal = (net: string) => c.terminalOf.get(net)!;
     this.judged = setup.thresholds.map((t) => ({ terminal: terminal(t.net), threshold: logicThreshold(design, t.net), vil: t.vil, vih: t.vih }));
@@ -162,33 +167,34 @@ export class Sampler {
   /** Solves at given parameter values (in `parameters` order). */
   at(values: Float64Array): SampleOutcome {
     const deviations = new Float64Array(values.length);
-    for (let i = 0; i < values.length; i++) {
-      const p = this.parameters[i]!;
-      if (p.high > p.low) deviations[i] = (2 * (values[i]! - p.low)) / (p.high - p.low) - 1;
-    }
+    const low = this.bandLow;
+    const inverse = this.bandInverse;
+    for (let i = 0; i < values.length; i++) deviations[i] = inverse[i]! === 0 ? 0 : 2 * (values[i]! - low[i]!) * inverse[i]! - 1;
     const margins = new Float64Array(this.judged.length).fill(NaN);
     let lost = this.states.length === 0;
     let pass = !lost;
+    const problem = this.problem;
     for (const state of this.states) {
-      if (!this.problem.solveFrom(values, state.x)) {
+      if (!problem.solveFrom(values, state.x)) {
         pass = false;
         lost = true;
         continue;
       }
-      const volts = (t: number) => this.problem.volts(t);
-      state.hints.forEach((h, k) => {
+      for (let k = 0; k < state.hints.length; k++) {
         const l = this.latchNets[k]!;
-        if (volts(l.terminal) > l.threshold !== h.high) {
+        if (problem.volts(l.terminal) > l.threshold !== state.hints[k]!.high) {
           pass = false;
           lost = true;
         }
-      });
-      this.judged.forEach((j, k) => {
-        const v = volts(j.terminal);
+      }
+      for (let k = 0; k < this.judged.length; k++) {
+        const j = this.judged[k]!;
+        const v = problem.volts(j.terminal);
         const m = v > j.threshold ? v - j.vih : j.vil - v;
-        if (!(m >= margins[k]!)) margins[k] = Number.isNaN(margins[k]!) ? m : Math.min(margins[k]!, m);
+        // The smallest over the states (NaN until a state gives one).
+        if (!(m >= margins[k]!)) margins[k] = m;
         if (m < this.setup.requiredMargin) pass = false;
-      });
+      }
     }
     return { pass, lost, margins, deviations };
   }

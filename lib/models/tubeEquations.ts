@@ -139,10 +139,12 @@ export function evaluateTube(p: Float64Array, po: number, vgk: number, vak: numb
       const ex = p[po + P.ex]!;
       const s = Math.sqrt(p[po + P.kvb]! + vak * vak);
       const z = kp * (1 / mu + vg / s);
-      const sp = softplus(z);
+      // softplus(z) and its derivative sigmoid(z) from one exponential.
+      const ez = Math.exp(-Math.abs(z));
+      const sp = (z > 0 ? z : 0) + Math.log1p(ez);
       const e1 = (vak / kp) * sp;
       if (e1 > 0) {
-        const sg = sigmoid(z);
+        const sg = z >= 0 ? 1 / (1 + ez) : ez / (1 + ez);
         const scale = (2 * perveance) / p[po + P.kg1]!;
         const pw = Math.pow(e1, ex - 1);
         ia = scale * pw * e1;
@@ -156,10 +158,11 @@ export function evaluateTube(p: Float64Array, po: number, vgk: number, vak: numb
       const kp = p[po + P.kp]!;
       const ex = p[po + P.ex]!;
       const z = kp * (1 / mu + vg / vsk);
-      const sp = softplus(z);
+      const ez = Math.exp(-Math.abs(z));
+      const sp = (z > 0 ? z : 0) + Math.log1p(ez);
       const e1 = (vsk / kp) * sp;
       if (e1 > 0) {
-        const sg = sigmoid(z);
+        const sg = z >= 0 ? 1 / (1 + ez) : ez / (1 + ez);
         const scale = (2 * perveance) / p[po + P.kg1]!;
         const pw = Math.pow(e1, ex - 1);
         const a = scale * pw * e1;
