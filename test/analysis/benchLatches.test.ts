@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { checkOf, design } from '../helpers.js';
+import { buttonLatchText } from './oracle.js';
 
 /**
  * Cross-coupled latches at 24 V / −12 V with set and clear buttons, in the arrangements
@@ -8,16 +9,7 @@ import { checkOf, design } from '../helpers.js';
  * arrangement did not work on the bench, and did with 100 kΩ loads and 330 kΩ / 330 kΩ
  * dividers. The models are not tuned to these: the library's 6AU6 fit and Koren's 12AU7.
  */
-const latch = (tube: string, screen: string, load: string, divider: string) =>
-  design(`rail bp = 24 V tol 5 %
-rail bias = -12 V tol 5 %
-defaults { tube = "${tube}", tolerance = 5 %, margin = 1 V }
-button SET (set, bp)
-resistor RS (set, bias) 100 k
-button CLR (clr, bp)
-resistor RC (clr, bias) 100 k
-stage q  { load ${load} to bp; ${screen} input nq series ${divider} pulldown ${divider} to bias; input clr series ${divider} pulldown ${divider} to bias }
-stage nq { load ${load} to bp; ${screen} input q  series ${divider} pulldown ${divider} to bias; input set series ${divider} pulldown ${divider} to bias }`);
+const latch = (tube: string, screen: string, load: string, divider: string) => design(buttonLatchText(tube, screen, load, divider));
 
 describe('latches with known bench results (common practice, no source)', () => {
   it('the pentode latch with 33 kΩ loads and 220 kΩ / 220 kΩ dividers holds with wide margins and switches from both inputs', () => {

@@ -21,7 +21,7 @@ import { P, packSection } from '../../lib/models/tubeEquations.js';
 import { generateRegister } from '../../bench/generate.js';
 import { checkOf, design, memoryLoader, netsFiles } from '../helpers.js';
 import { loadDesign } from '../../lib/index.js';
-import { exhaustive, latchText, SMALL_DESIGNS } from './oracle.js';
+import { buttonLatchText, exhaustive, latchText, SMALL_DESIGNS } from './oracle.js';
 
 const NEW = findScenario('new')!;
 
@@ -97,15 +97,7 @@ describe('the full-circuit solution lies inside the worst-case intervals (DESIGN
   };
 
   it('for random samples of a pentode latch with set and clear inputs, new and at end of life', () => {
-    const d = design(`rail bp = 24 V tol 5 %
-rail bias = -12 V tol 5 %
-defaults { tube = "6AU6", tolerance = 5 % }
-button SET (set, bp)
-resistor RS (set, bias) 100 k
-button CLR (clr, bp)
-resistor RC (clr, bias) 100 k
-stage q  { load 33 k to bp; screen bp; input nq series 220 k pulldown 220 k to bias; input clr series 220 k pulldown 220 k to bias }
-stage nq { load 33 k to bp; screen bp; input q  series 220 k pulldown 220 k to bias; input set series 220 k pulldown 220 k to bias }`);
+    const d = design(buttonLatchText('6AU6', 'screen bp;', '33 k', '220 k'));
     for (const scenario of [NEW, findScenario('end-of-life')!]) {
       const chain = chainOf(d, scenario);
       fc.assert(

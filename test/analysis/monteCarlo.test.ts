@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { buildRegion, buildStageGraph, findScenario, indexDesign, loadDesign, LocalProblem, regionParameters, SampleDrawer, Sampler, samplingThresholds, summarizeSamples, wilsonInterval, type Distribution, type SamplingSetup } from '../../lib/index.js';
 import { checkOf, design, memoryLoader, netsFiles } from '../helpers.js';
+import { buttonLatchText } from './oracle.js';
 
 describe('sampled values against closed forms', () => {
   /**
@@ -83,15 +84,7 @@ describe('Monte Carlo against worst case', () => {
     const files = netsFiles();
     return loadDesign(file, files[file]!, { loader: memoryLoader(files) }).design!;
   };
-  const latch = design(`rail bp = 24 V tol 5 %
-rail bias = -12 V tol 5 %
-defaults { tube = "6AU6", tolerance = 5 %, margin = 1 V }
-button SET (set, bp)
-resistor RS (set, bias) 100 k
-button CLR (clr, bp)
-resistor RC (clr, bias) 100 k
-stage q  { load 33 k to bp; screen bp; input nq series 220 k pulldown 220 k to bias; input clr series 220 k pulldown 220 k to bias }
-stage nq { load 33 k to bp; screen bp; input q  series 220 k pulldown 220 k to bias; input set series 220 k pulldown 220 k to bias }`);
+  const latch = design(buttonLatchText('6AU6', 'screen bp;', '33 k', '220 k'));
 
   for (const distribution of ['uniform', 'graded'] as Distribution[]) {
     it(`never puts a net's smallest sampled margin below its worst-case margin, ${distribution} (bounded by the tolerances)`, () => {

@@ -47,3 +47,18 @@ stage b { load 33 k to bp; screen bp; input a series 220 k pulldown 220 k to bia
   ],
 ];
 
+
+/**
+ * A latch at 24 V / −12 V with set and clear buttons (each pulled down to the bias rail
+ * through 100 kΩ), 5 % parts and a required margin of 1 V: the arrangement of the bench
+ * figures, as a builder would draw it.
+ */
+export const buttonLatchText = (tube: string, screen: string, load: string, divider: string) => `rail bp = 24 V tol 5 %
+rail bias = -12 V tol 5 %
+defaults { tube = "${tube}", tolerance = 5 %, margin = 1 V }
+button SET (set, bp)
+resistor RS (set, bias) 100 k
+button CLR (clr, bp)
+resistor RC (clr, bias) 100 k
+stage q  { load ${load} to bp; ${screen} input nq series ${divider} pulldown ${divider} to bias; input clr series ${divider} pulldown ${divider} to bias }
+stage nq { load ${load} to bp; ${screen} input q  series ${divider} pulldown ${divider} to bias; input set series ${divider} pulldown ${divider} to bias }`;
