@@ -7,7 +7,7 @@ import { RESIDUAL_LIMIT, solveOperatingPoint, type OperatingPoint, type SolveOpt
 
 /**
  * A design with one net held by a stiff source whose level changes between solves without
- * compiling again: the shared mechanism of transfer-curve sweeps and trigger bisections.
+ * compiling again: the shared mechanism of transfer-curve sweeps and trigger continuations.
  * The net's own driver stays in place (the source overrides it), so its grids still load
  * the nets that drive them; a drive already on the net is replaced.
  */

@@ -46,7 +46,7 @@ export interface LatchResult {
  * four combinations of each curve's early and late corner. The trigger is found on the
  * latch's own region (both stages, their dividers and what they feed, every other net held)
  * solved whole, with the parameters at the vertex that makes the pulled net's low level
- * highest, by bisection on the input level (see `triggerMargin`).
+ * highest, by continuation of the rising input (see `triggerMargin`).
  */
 export function latchCheck(chain: LevelChain, latch: [string, string]): LatchResult {
   const [a, b] = latch;

@@ -10,7 +10,7 @@ import type { Region } from './region.js';
  * those values and sections get their emission and interface as variations.
  *
  * Example: the region of a latch with its set input as a boundary becomes a design the
- * full solver and the trigger bisection can work on.
+ * full solver and the trigger continuation can work on.
  */
 export function localDesign(
   design: Design,

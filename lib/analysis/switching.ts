@@ -18,7 +18,7 @@ export interface TriggerQuestion {
 export interface TriggerAnswer {
   /** True when, at the asserted level, the state to be left no longer exists. */
   switches: boolean;
-  /** The input level at which the old state stops existing (volts), found by bisection to 1 mV; undefined if it never does. */
+  /** The input level at which the old state stops existing (volts), found to 1 mV; undefined if it never does. */
   threshold: number | undefined;
   /** Asserted level minus threshold, signed towards the asserted side: the input's spare drive (volts). */
   triggerMargin: number | undefined;
