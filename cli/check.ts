@@ -1,4 +1,4 @@
-import { AGEING_SCENARIOS, checkMargins, DISTRIBUTIONS, findScenario, samplingThresholds, shrinkFailure, type Distribution } from '../lib/index.js';
+import { AGEING_SCENARIOS, checkMargins, DISTRIBUTIONS, findScenario, samplingThresholds, shrinkFailure, type AgeingScenario, type CheckResult, type Design, type Distribution, type MonteCarloResult } from '../lib/index.js';
 import { checkToJson, renderCheck } from '../lib/report/checkReport.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
@@ -50,7 +50,17 @@ function wholeNumber(text: string | undefined, min: number, max: number): number
   return n >= min && n <= max ? n : undefined;
 }
 
-export async function runCheck(file: string, options: CheckCliOptions, io: CliIo): Promise<number> {
+/** The options `check` and `report` share, read and checked; a usage error has been printed when it is a number (the exit code). */
+export interface CheckSettings {
+  margin: number | undefined;
+  scenario: AgeingScenario;
+  samples: number;
+  seed: number;
+  distribution: Distribution;
+  workers: number;
+}
+
+export function readCheckOptions(options: CheckCliOptions, io: CliIo): CheckSettings | number {
   const bad = (message: string) => usageError(io, message);
   let margin: number | undefined;
   if (options.margin !== undefined) {
@@ -68,15 +78,31 @@ export async function runCheck(file: string, options: CheckCliOptions, io: CliIo
   if (!DISTRIBUTIONS.includes(distribution)) return bad(`--distribution takes one of ${DISTRIBUTIONS.join(', ')}, not '${options.distribution}'`);
   const workers = options.workers === undefined ? defaultWorkers() : wholeNumber(options.workers, 1, 256);
   if (workers === undefined) return bad(`--workers takes a whole number from 1 to 256, not '${options.workers}'`);
-  const loaded = loadForCommand(file, io, options);
-  if (!loaded) return EXIT.badInput;
+  return { margin, scenario, samples, seed, distribution, workers };
+}
+
+/** The check of a loaded design and, when asked, its Monte Carlo run; a number is the exit code of a design that cannot be solved (reported). */
+export async function checkWithSamples(loaded: { design: Design; sources: Map<string, string> }, settings: CheckSettings, io: CliIo): Promise<{ result: CheckResult; sampled: MonteCarloResult | undefined } | number> {
+  const { margin, scenario, samples, seed, distribution, workers } = settings;
   const result = checkMargins(loaded.design, { requiredMargin: margin, scenario });
   if (!('verdict' in result)) {
     report(result.diagnostics, loaded.sources, io);
     return EXIT.badInput;
   }
-  const sampled = samples > 0 ? await runSamples(loaded.design, { seed, distribution, scenario: scenario.name, requiredMargin: result.requiredMargin, thresholds: samplingThresholds(result) }, samples, workers, io) : undefined;
-  const shrunk = options.shrink ? shrinkFailure(loaded.design, result, { seed, runs: SHRINK_RUNS }) : undefined;
+  const setup = { seed, distribution, scenario: scenario.name, requiredMargin: result.requiredMargin, thresholds: samplingThresholds(result) };
+  const sampled = samples > 0 ? await runSamples(loaded.design, setup, samples, workers, io) : undefined;
+  return { result, sampled };
+}
+
+export async function runCheck(file: string, options: CheckCliOptions, io: CliIo): Promise<number> {
+  const settings = readCheckOptions(options, io);
+  if (typeof settings === 'number') return settings;
+  const loaded = loadForCommand(file, io, options);
+  if (!loaded) return EXIT.badInput;
+  const checked = await checkWithSamples(loaded, settings, io);
+  if (typeof checked === 'number') return checked;
+  const { result, sampled } = checked;
+  const shrunk = options.shrink ? shrinkFailure(loaded.design, result, { seed: settings.seed, runs: SHRINK_RUNS }) : undefined;
   if (options.json) io.stdout(JSON.stringify(checkToJson(loaded.design, result, sampled, shrunk), null, 2) + '\n');
   else {
     const text = renderCheck(loaded.design, result, file, sampled, shrunk);

@@ -1,4 +1,4 @@
-import { readFileSync, statSync } from 'node:fs';
+import { readFileSync, statSync, writeFileSync } from 'node:fs';
 import { dirname, join, normalize } from 'node:path';
 import type { SourceLoader } from '../lib/index.js';
 import { MAX_SOURCE_CHARS } from '../lib/index.js';
@@ -9,6 +9,8 @@ export interface CliIo {
   stderr: (text: string) => void;
   /** Reads a file as UTF-8, or throws an Error whose message says why not. */
   readFile: (path: string) => string;
+  /** Writes a file as UTF-8, or throws an Error whose message says why not (only `report` writes). */
+  writeFile?: (path: string, text: string) => void;
   /** Whether stdout/stderr are terminals (for colour and progress). */
   stdoutIsTTY: boolean;
   stderrIsTTY: boolean;
@@ -44,6 +46,13 @@ export function processIo(): CliIo {
     stdout: (t) => process.stdout.write(t),
     stderr: (t) => process.stderr.write(t),
     readFile: readDesignFile,
+    writeFile: (path, text) => {
+      try {
+        writeFileSync(path, text, 'utf8');
+      } catch (e) {
+        throw new Error(describeFsError(e));
+      }
+    },
     stdoutIsTTY: Boolean(process.stdout.isTTY),
     stderrIsTTY: Boolean(process.stderr.isTTY),
     env: process.env,

@@ -2,6 +2,7 @@ import { Command, CommanderError } from 'commander';
 import { processIo, type CliIo } from './io.js';
 import { EXIT } from './load.js';
 import { CHECK_HELP, CHECK_SUMMARY, runCheck, type CheckCliOptions } from './check.js';
+import { REPORT_HELP, REPORT_SUMMARY, runReport, type ReportCliOptions } from './report.js';
 import { SWEEP_HELP, SWEEP_SUMMARY, runSweep, type SweepCliOptions } from './sweep.js';
 import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
 import { SOLVE_HELP, SOLVE_SUMMARY, runSolve, type SolveCliOptions } from './solve.js';
@@ -18,6 +19,7 @@ Examples:
   tubemargin check nets/crate-tally.tube --age end-of-life --margin 10
   tubemargin check nets/nor-adder.tube --samples 10000 --seed 7
   tubemargin sweep nets/nor-adder.tube --rail bp=18:30:1 --rail bias=-16:-6:1
+  tubemargin report nets/crate-tally.tube -o crate.html --samples 2000
   tubemargin tubes                               the tube library
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
@@ -92,6 +94,24 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--json', 'print the map as tubemargin.sweep/1 JSON')
     .action((file: string, opts: SweepCliOptions) => {
       code = runSweep(file, { ...program.opts(), ...opts }, io);
+    });
+
+  program
+    .command('report')
+    .summary(REPORT_SUMMARY)
+    .description(REPORT_SUMMARY + '\n' + REPORT_HELP)
+    .argument('<file>', 'design file (.tube text or .json)')
+    .option('-o, --output <FILE>', 'where to write the HTML report')
+    .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
+    .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
+    .option('--samples <N>', 'add a Monte Carlo run of N samples and its histograms')
+    .option('--seed <S>', 'seed of the Monte Carlo run (default 1)')
+    .option('--distribution <D>', 'uniform, normal (tolerance = 3σ), graded (default uniform)')
+    .option('--workers <K>', 'threads for the Monte Carlo run (default: every core)')
+    .option('--rail <NAME=FROM:TO:STEP>', 'add a supply map over this rail; give one or two', collect, [])
+    .option('--heater <F>', 'heater voltage for the supply map, as a fraction of nominal')
+    .action(async (file: string, opts: ReportCliOptions) => {
+      code = await runReport(file, { ...program.opts(), ...opts }, io);
     });
 
   program

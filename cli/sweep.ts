@@ -23,7 +23,8 @@ export interface SweepCliOptions extends GlobalOptions {
   json?: boolean;
 }
 
-export function runSweep(file: string, options: SweepCliOptions, io: CliIo): number {
+/** The swept rails and heater setting, read and checked; a number is the exit code of a usage error (printed). */
+export function readSweepOptions(options: Pick<SweepCliOptions, 'rail' | 'heater'>, io: CliIo): { axes: SweepAxis[]; heater: number } | number {
   const axes: SweepAxis[] = [];
   const number = '(-?\\d+(?:\\.\\d+)?)';
   for (const text of options.rail ?? []) {
@@ -31,9 +32,17 @@ export function runSweep(file: string, options: SweepCliOptions, io: CliIo): num
     if (!m) return usageError(io, `--rail takes NAME=FROM:TO:STEP in volts, such as bp=18:30:0.5, not '${text}'`);
     axes.push({ rail: m[1]!, from: Number(m[2]), to: Number(m[3]), step: Number(m[4]) });
   }
-  if (axes.length < 1 || axes.length > 2) return usageError(io, 'give one or two --rail NAME=FROM:TO:STEP');
+  if (axes.length > 2) return usageError(io, 'give one or two --rail NAME=FROM:TO:STEP');
   const heater = options.heater === undefined ? 1 : Number(options.heater);
   if (!(heater > 0 && heater <= 1.5)) return usageError(io, `--heater takes a fraction of the nominal heater voltage from 0 to 1.5, not '${options.heater}'`);
+  return { axes, heater };
+}
+
+export function runSweep(file: string, options: SweepCliOptions, io: CliIo): number {
+  const read = readSweepOptions(options, io);
+  if (typeof read === 'number') return read;
+  const { axes, heater } = read;
+  if (axes.length === 0) return usageError(io, 'give one or two --rail NAME=FROM:TO:STEP');
   const margin = options.margin === undefined ? undefined : Number(options.margin.replace(/\s*V$/, ''));
   if (margin !== undefined && !(margin >= 0)) return usageError(io, `--margin takes a voltage such as 1.5 or 1.5V, not '${options.margin}'`);
   const scenario = findScenario(options.age ?? 'new');

@@ -10,6 +10,7 @@ import { LevelChain, type CaseResult, type ChainNet } from './levelChain.js';
 import { latchCheck, type LatchResult } from './latchCheck.js';
 import type { LocalParameter } from './localProblem.js';
 import { receiverThresholds } from './receiverThresholds.js';
+import type { TransferCurve } from './staticNoiseMargin.js';
 
 export interface CheckOptions {
   /** The noise margin every net must keep (volts); the design's own setting when absent. */
@@ -84,6 +85,23 @@ export interface CheckResult {
   settled: boolean;
   rounds: number;
   localSolves: number;
+  /** One transfer curve per distinct kind of receiving stage, for drawing. */
+  stageKinds: StageKind[];
+}
+
+/** A kind of receiving stage as seen from the net that drives it: its transfer curves and the levels around them. */
+export interface StageKind {
+  /** The first stage and driving net of this kind, and how many inputs are alike. */
+  stage: string;
+  driving: string;
+  count: number;
+  curves: { nominal: TransferCurve; early: TransferCurve; late: TransferCurve };
+  /** Unity-gain thresholds: nominal, and the worst (earliest VIL, latest VIH). */
+  vil: { nominal: number | undefined; worst: number | undefined };
+  vih: { nominal: number | undefined; worst: number | undefined };
+  /** The driving net's levels (the curve's input) and the stage's own (its output), worst case. */
+  input: { high: number | undefined; low: number | undefined };
+  output: { high: number | undefined; low: number | undefined };
 }
 
 /**
@@ -113,12 +131,30 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
 
   // Thresholds of every receiving input, and the design-wide extremes for nets with none.
   const thresholds = new Map<string, ReceiverMargin[]>();
+  const kinds = new Map<string, StageKind>();
   for (const n of graph.nets) {
     thresholds.set(
       n.name,
       n.receivers.flatMap((r) => {
         const t = receiverThresholds(chain, n.name, r);
-        return t ? [{ section: r.section, stage: t.stage, vilMin: t.vilMin, vihMax: t.vihMax }] : [];
+        if (!t) return [];
+        const kind = kinds.get(t.key);
+        if (kind) kind.count++;
+        else {
+          const li = chain.levels.get(n.name)!;
+          const lo = chain.levels.get(t.stage)!;
+          kinds.set(t.key, {
+            stage: t.stage,
+            driving: n.name,
+            count: 1,
+            curves: t.curves,
+            vil: { nominal: t.nominal?.vil, worst: t.vilMin },
+            vih: { nominal: t.nominal?.vih, worst: t.vihMax },
+            input: { high: li.canHigh ? li.highWorst : undefined, low: li.canLow ? li.lowWorst : undefined },
+            output: { high: lo.canHigh ? lo.highWorst : undefined, low: lo.canLow ? lo.lowWorst : undefined },
+          });
+        }
+        return [{ section: r.section, stage: t.stage, vilMin: t.vilMin, vihMax: t.vihMax }];
       }),
     );
   }
@@ -154,6 +190,7 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
     settled: chain.settled,
     rounds: chain.rounds,
     localSolves: chain.solves,
+    stageKinds: [...kinds.values()],
   };
 }
 

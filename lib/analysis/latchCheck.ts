@@ -3,7 +3,7 @@ import type { LevelChain } from './levelChain.js';
 import { localDesign } from './localDesign.js';
 import type { Region } from './region.js';
 import { receiverThresholds, type ReceiverThresholds } from './receiverThresholds.js';
-import { staticNoiseMargin, type ButterflyResult } from './staticNoiseMargin.js';
+import { staticNoiseMargin, type ButterflyResult, type TransferCurve } from './staticNoiseMargin.js';
 import { triggerMargin } from './switching.js';
 
 /** Whether one set or reset input of a latch switches it. */
@@ -30,8 +30,8 @@ export interface LatchResult {
   holds: boolean;
   /** Largest-square static noise margin (Seevinck et al.), nominal and at the worst combination of corners. */
   snm: { nominal: number; worst: number };
-  /** The butterflies (for drawing): nominal and worst. */
-  butterfly: { nominal: ButterflyResult; worst: ButterflyResult } | undefined;
+  /** The butterflies (for drawing): nominal and worst, and the two nominal curves (second net against first, first against second). */
+  butterfly: { nominal: ButterflyResult; worst: ButterflyResult; curves: [TransferCurve, TransferCurve] } | undefined;
   inputs: LatchInput[];
   reasons: string[];
 }
@@ -71,7 +71,7 @@ export function latchCheck(chain: LevelChain, latch: [string, string]): LatchRes
       }
       return { nominal, worst };
     });
-    butterfly = found;
+    butterfly = { ...found, curves: [t1.curves.nominal, t2.curves.nominal] };
     snm = { nominal: found.nominal.snm, worst: found.worst.bistable ? found.worst.snm : 0 };
   } else reasons.push('the transfer curves of its two stages could not be swept');
   const restores = (net: string, t: ReceiverThresholds | undefined) => {

@@ -221,7 +221,12 @@ export interface MonteCarloResult {
   correlated: { kind: LocalParameter['kind']; target: string; correlation: number }[];
   /** The first failing samples' indices, to repeat them. */
   failing: number[];
+  /** Histograms of the weakest nets' margins (smallest 1st percentile first): 30 bins from `from` to `to` volts. */
+  histograms: { net: string; from: number; to: number; counts: number[] }[];
 }
+
+/** Bins of each histogram. */
+const BINS = 30;
 
 /**
  * The Wilson score interval for a proportion (E. B. Wilson, "Probable inference, the law
@@ -269,5 +274,17 @@ export function summarizeSamples(setup: SamplingSetup, parameters: readonly Loca
     nets,
     correlated: correlated.slice(0, 5),
     failing: outcomes.flatMap((o, k) => (o.pass ? [] : [k])).slice(0, 10),
+    histograms: [...nets.keys()]
+      .sort((a, b) => nets[a]!.p1 - nets[b]!.p1)
+      .slice(0, 4)
+      .map((k) => {
+        const ms = outcomes.map((o) => o.margins[k]!).filter((m) => !Number.isNaN(m));
+        const from = Math.min(...ms);
+        const to = Math.max(...ms);
+        const counts = new Array<number>(BINS).fill(0);
+        const width = (to - from) / BINS || 1;
+        for (const m of ms) counts[Math.min(BINS - 1, Math.floor((m - from) / width))]!++;
+        return { net: nets[k]!.net, from, to, counts };
+      }),
   };
 }

@@ -1,0 +1,193 @@
+import type { CheckResult } from '../analysis/check.js';
+import type { MonteCarloResult } from '../analysis/monteCarlo.js';
+import type { RailSweepResult } from '../analysis/sweep.js';
+import type { Design } from '../design/model.js';
+import { findLibraryEntry } from '../models/library.js';
+import type { OperatingPoint } from '../solve/operatingPoint.js';
+import { butterflyChart, histogramChart, marginChart, PALETTE, svgOf, sweepChart, transferChart } from './charts.js';
+import { DEFINITIONS } from './checkReport.js';
+import { formatSI } from './format.js';
+import { safetyCautions } from './safety.js';
+
+/** The first line of every report: `report` overwrites a file only when it starts so (its own earlier output). */
+export const REPORT_MARK = '<!doctype html><!-- tubemargin report -->';
+
+/** Escapes text for HTML content and attribute values. */
+export function escapeHtml(text: string): string {
+  return text.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
+}
+
+export interface HtmlReportInput {
+  design: Design;
+  check: CheckResult;
+  /** The file the design was read from, as the user named it. */
+  source: string;
+  /** The nominal operating point (every latch's first net low), for the design facts. */
+  nominal: OperatingPoint | undefined;
+  samples?: MonteCarloResult;
+  sweep?: RailSweepResult;
+}
+
+/** Most plots of one kind in a report: the rest are alike or listed in the tables. */
+const MAX_PLOTS = 8;
+
+const v = (x: number | undefined) => (x === undefined || !Number.isFinite(x) ? '—' : x.toFixed(2));
+
+/**
+ * The HTML report: one self-contained page (styles and SVG plots inline, no script, no
+ * request) with the verdict, the safety cautions when a rail exceeds 60 V, nets weakest
+ * first, the margin chart, each kind of latch's butterfly with its largest squares, each
+ * kind of stage's transfer curve with VOL, VOH, VIL and VIH, the Monte Carlo histograms
+ * and the supply map when run, and the design's facts. Every name from the design is
+ * escaped.
+ */
+export async function renderHtmlReport(input: HtmlReportInput): Promise<string> {
+  const { design, check, source } = input;
+  const e = escapeHtml;
+  const title = design.title || '(untitled design)';
+  const parts: string[] = [];
+  const plot = async (caption: string, spec: Parameters<typeof svgOf>[0]) => `<figure class="plot">${await svgOf(spec)}<figcaption>${e(caption)}</figcaption></figure>`;
+
+  const failing = check.nets.filter((n) => n.status === 'fail').length;
+  const verdict =
+    check.verdict === 'pass'
+      ? `PASS: every net keeps ${v(check.requiredMargin)} V of margin${check.latches.length ? ' and every latch holds and switches' : ''} in worst case.`
+      : `FAIL: ${failing} of ${check.nets.length} nets fail in worst case; required margin ${v(check.requiredMargin)} V.`;
+  const weakestNet = check.nets[0];
+  const weakestLine = weakestNet ? `<p class="weakest">The weakest net is <strong id="weakest">${e(weakestNet.name)}</strong>${weakestNet.reasons[0] ? `: ${e(weakestNet.reasons[0])}` : ''}.</p>` : '';
+  parts.push(`<header><h1>${e(title)}</h1><p class="source">${e(source)} · ageing: ${e(check.scenario.name)} (${e(check.scenario.summary)})</p><p id="verdict" class="verdict ${check.verdict}">${e(verdict)}</p>${weakestLine}</header>`);
+
+  const cautions = safetyCautions(design);
+  if (cautions.length > 0) parts.push(`<section id="caution" class="caution"><h2>Caution: high voltage</h2>${cautions.map((c) => `<p>${e(c)}</p>`).join('')}</section>`);
+
+  const netsTable =
+    `<section id="nets"><h2>Nets, weakest first</h2><table><thead><tr><th>net</th><th>driver</th><th>fan-out</th><th>worst high</th><th>worst low</th><th>NM_H</th><th>NM_L</th><th>cutoff</th><th>drive</th><th>more loads</th><th>status</th></tr></thead><tbody>${check.nets
+      .map(
+        (n) =>
+          `<tr class="${n.status}"><td>${e(n.name)}</td><td>${e(n.driver)}</td><td>${n.fanout}</td><td>${v(n.high?.worst)}</td><td>${v(n.low?.worst)}</td><td>${v(n.margin.high)}</td><td>${v(n.margin.low)}</td><td>${v(n.cutoffMargin?.volts)}</td><td>${v(n.driveMargin?.volts)}</td><td>${n.headroom ?? '—'}</td><td>${n.status === 'fail' ? `FAIL: ${e(n.reasons.join('; '))}` : e(n.status)}</td></tr>`,
+      )
+      .join('')}</tbody></table></section>`;
+
+  const explained = check.nets.filter((n) => n.weakest && n.weakest.causes.length > 0).slice(0, 3);
+  if (explained.length > 0) {
+    parts.push(
+      `<section id="why"><h2>What makes the weakest nets weak</h2>${explained
+        .map((n) => `<h3>${e(n.name)}</h3><ul>${n.weakest!.causes.map((c) => `<li>${e(c.kind)} ${e(c.target)} at its ${c.end} end: moves the ${n.weakest!.what === 'low' ? 'low' : 'high'} level ${c.volts >= 0 ? 'up' : 'down'} ${Math.abs(c.volts).toFixed(2)} V</li>`).join('')}</ul>`)
+        .join('')}</section>`,
+    );
+  }
+
+  parts.push(`<section id="margins"><h2>Noise margins</h2>${await plot(`The dashed line is the required margin, ${v(check.requiredMargin)} V.`, marginChart(check.nets, check.requiredMargin))}</section>`);
+
+  if (check.latches.length > 0) {
+    const seen = new Set<string>();
+    const kinds = check.latches.filter((l) => {
+      const key = `${l.snm.nominal}|${l.snm.worst}`;
+      if (seen.has(key)) return false;
+      seen.add(key);
+      return true;
+    });
+    const plots: string[] = [];
+    for (const l of kinds.slice(0, MAX_PLOTS)) {
+      const spec = butterflyChart(l);
+      if (spec) plots.push(await plot(`${l.holds ? 'Holds' : 'Does NOT hold'}; the shaded squares are the largest in each lobe (nominal).`, spec));
+    }
+    const rows = check.latches
+      .map((l) => `<tr class="${l.holds ? 'pass' : 'fail'}"><td>${e(l.nets.join(' ↔ '))}</td><td>${l.holds ? 'yes' : 'NO'}</td><td>${v(l.snm.worst)}</td><td>${l.inputs.map((i) => `${e(i.input)}: ${i.note ? e(i.note) : i.switches ? `switches, margin ${v(i.triggerMargin)} V` : 'does NOT switch'}`).join('<br>')}</td></tr>`)
+      .join('');
+    parts.push(`<section id="latches"><h2>Latches</h2><div class="plots">${plots.join('')}</div><table><thead><tr><th>latch</th><th>holds</th><th>SNM (worst)</th><th>set and reset inputs</th></tr></thead><tbody>${rows}</tbody></table></section>`);
+  }
+
+  if (check.stageKinds.length > 0) {
+    const plots: string[] = [];
+    for (const k of check.stageKinds.slice(0, MAX_PLOTS)) plots.push(await plot('Transfer curve at nominal values and at the corners that switch it earliest and latest.', transferChart(k)));
+    parts.push(`<section id="stages"><h2>Kinds of stage</h2><div class="plots">${plots.join('')}</div></section>`);
+  }
+
+  const mc = input.samples;
+  if (mc) {
+    const pct = (x: number) => `${(100 * x).toFixed(2)} %`;
+    const plots: string[] = [];
+    for (const h of mc.histograms) plots.push(await plot('Red bins fall below the required margin.', histogramChart(h, check.requiredMargin)));
+    parts.push(
+      `<section id="samples"><h2>Monte Carlo</h2><p>${mc.samples.toLocaleString('en')} samples (${e(mc.distribution)}, seed ${mc.seed}): yield <strong>${pct(mc.yield)}</strong>, 95 % interval ${pct(mc.interval[0])} to ${pct(mc.interval[1])}.</p>${
+        mc.correlated.length ? `<p>Parts that go most with failing builds: ${mc.correlated.map((c) => `${e(c.kind)} ${e(c.target)} (${c.correlation.toFixed(2)})`).join(', ')}.</p>` : ''
+      }<div class="plots">${plots.join('')}</div></section>`,
+    );
+  }
+
+  if (input.sweep) {
+    const windows = input.sweep.window.map((w) => `<li>${e(w.rail)}: ${w.low === undefined ? 'the nominal point fails' : `${w.low} V to ${w.high} V${w.position === undefined ? '' : `, nominal at ${Math.round(w.position * 100)} %`}`}</li>`).join('');
+    parts.push(`<section id="sweep"><h2>Supply window</h2>${await plot('Each point is the worst-case check at those rail voltages; the ring marks the nominal point.', sweepChart(input.sweep))}<ul>${windows}</ul></section>`);
+  }
+
+  parts.push(netsTable);
+  parts.push(`<section id="facts"><h2>Design facts</h2>${facts(design, input.nominal)}</section>`);
+  parts.push(`<section id="definitions"><h2>What the figures mean</h2><dl>${Object.entries(DEFINITIONS).map(([k, d]) => `<dt>${e(k)}</dt><dd>${e(d)}</dd>`).join('')}</dl></section>`);
+
+  return `${REPORT_MARK}
+<html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1"><title>${e(title)} — tubemargin</title><style>${STYLE}</style></head>
+<body>${parts.join('\n')}<footer>Made by tubemargin. It checks logic margins, not safety.</footer></body></html>
+`;
+}
+
+/** Tube count by type, rails and the current drawn from each, and the most loaded sections and resistors against their ratings. */
+function facts(design: Design, op: OperatingPoint | undefined): string {
+  const e = escapeHtml;
+  const sections = design.parts.filter((p) => p.type === 'tube');
+  const byType = new Map<string, number>();
+  for (const s of sections) if (s.type === 'tube') byType.set(s.model, (byType.get(s.model) ?? 0) + 1);
+  const out: string[] = [];
+  out.push(`<p>${sections.length} tube sections: ${[...byType].map(([m, n]) => `${n} × ${e(m)}`).join(', ') || 'none'}; ${design.parts.filter((p) => p.type === 'resistor').length} resistors.</p>`);
+  const drawn = new Map<string, number>();
+  if (op) {
+    const partOf = new Map(design.parts.map((p) => [p.name, p]));
+    for (const r of op.resistors) {
+      const p = partOf.get(r.name);
+      if (p?.type !== 'resistor') continue;
+      // Current leaves a rail at the end it is measured from (a → b positive).
+      drawn.set(p.a, (drawn.get(p.a) ?? 0) + r.amps);
+      drawn.set(p.b, (drawn.get(p.b) ?? 0) - r.amps);
+    }
+    for (const t of op.tubes) {
+      const p = partOf.get(t.name);
+      if (p?.type !== 'tube') continue;
+      drawn.set(p.plate, (drawn.get(p.plate) ?? 0) + t.plateAmps);
+      if (p.screen) drawn.set(p.screen, (drawn.get(p.screen) ?? 0) + t.screenAmps);
+      drawn.set(p.cathode, (drawn.get(p.cathode) ?? 0) - (t.plateAmps + t.gridAmps + t.screenAmps));
+    }
+  }
+  out.push(
+    `<table><thead><tr><th>rail</th><th>volts</th><th>tolerance</th><th>current drawn (nominal)</th></tr></thead><tbody>${design.rails
+      .map((r) => `<tr><td>${e(r.name)}</td><td>${r.volts}</td><td>±${(r.tol * 100).toFixed(1)} %</td><td>${op ? formatSI(drawn.get(r.name) ?? 0, 'A') : '—'}</td></tr>`)
+      .join('')}</tbody></table>`,
+  );
+  if (op) {
+    const ratingOf = new Map(design.models.map((m) => [m.name, m.library ? findLibraryEntry(m.library)?.ratings.plateWatts : undefined]));
+    const modelOf = new Map(sections.map((s) => [s.name, s.type === 'tube' ? s.model : '']));
+    const hot = op.tubes
+      .map((t) => ({ name: t.name, watts: t.plateWatts, rating: ratingOf.get(modelOf.get(t.name)!) }))
+      .sort((a, b) => b.watts - a.watts)
+      .slice(0, 5);
+    const warm = [...op.resistors].sort((a, b) => b.watts / b.ratingWatts - a.watts / a.ratingWatts).slice(0, 5);
+    out.push(
+      `<table><thead><tr><th>section</th><th>plate dissipation (nominal)</th><th>rating</th></tr></thead><tbody>${hot.map((t) => `<tr><td>${e(t.name)}</td><td>${formatSI(t.watts, 'W')}</td><td>${t.rating === undefined ? '—' : formatSI(t.rating, 'W')}</td></tr>`).join('')}</tbody></table>`,
+    );
+    out.push(
+      `<table><thead><tr><th>resistor</th><th>power (nominal)</th><th>rating</th><th>share</th></tr></thead><tbody>${warm.map((r) => `<tr><td>${e(r.name)}</td><td>${formatSI(r.watts, 'W')}</td><td>${formatSI(r.ratingWatts, 'W')}</td><td>${Math.round((100 * r.watts) / r.ratingWatts)} %</td></tr>`).join('')}</tbody></table>`,
+    );
+  }
+  return out.join('');
+}
+
+const STYLE = `
+body{margin:0 auto;max-width:1100px;padding:24px 32px;background:#fbf8f1;color:${PALETTE.ink};font:15px/1.5 Georgia,serif}
+h1{font-size:28px;margin:0 0 4px}h2{font-size:20px;border-bottom:2px solid #e6e2d8;padding-bottom:4px;margin-top:32px}
+.source{color:#6b6f80;margin:0}.verdict{font-size:20px;font-weight:bold;padding:10px 14px;border-left:8px solid}
+.verdict.pass{border-color:${PALETTE.pass};background:#e4f1ec}.verdict.fail{border-color:${PALETTE.fail};background:#f6e3e5}
+.caution{border:3px double ${PALETTE.fail};padding:4px 16px;background:#fff4e0}.caution h2{border:none;color:${PALETTE.fail}}
+table{border-collapse:collapse;margin:12px 0;font-size:13px}th,td{padding:3px 10px;text-align:left;border-bottom:1px solid #e6e2d8;vertical-align:top}
+tr.fail td{color:${PALETTE.fail}}th{background:#efeadf}
+.plots{display:flex;flex-wrap:wrap;gap:18px}figure.plot{margin:8px 0}figcaption{font-size:12px;color:#6b6f80;max-width:520px}
+dt{font-weight:bold;margin-top:6px}dd{margin-left:18px}footer{margin-top:40px;font-size:12px;color:#6b6f80}
+`;
