@@ -116,7 +116,7 @@ export function butterflyChart(latch: LatchResult): TopLevelSpec | undefined {
         encoding: {
           x: { field: 'vin', type: 'quantitative', title: `${a} (V)` },
           y: { field: 'vout', type: 'quantitative', title: `${c} (V)` },
-          color: { field: 'curve', type: 'nominal', scale: { range: [PALETTE.ink, PALETTE.fail] }, legend: { title: null, orient: 'bottom' } },
+          color: { field: 'curve', type: 'nominal', scale: { range: [PALETTE.ink, PALETTE.fail] }, legend: { title: null, orient: 'bottom', labelLimit: 400 } },
         },
       },
     ],

@@ -196,6 +196,21 @@ function renderShrink(s: ShrinkResult): string[] {
   return out;
 }
 
+/** Cells of the margin bar; the required margin is at the middle. */
+const BAR_CELLS = 6;
+
+/**
+ * The smaller noise margin as a bar of six cells, the required margin filling three: a
+ * net that falls short shows fewer than half, one with twice the margin a full bar;
+ * blank for a net with no margin to show.
+ */
+export function marginBar(n: NetCheck, required: number): string {
+  const m = Math.min(n.margin.high ?? Infinity, n.margin.low ?? Infinity);
+  if (!Number.isFinite(m)) return ' '.repeat(BAR_CELLS);
+  const filled = Math.max(0, Math.min(BAR_CELLS, Math.round((m / Math.max(required, 1e-9)) * (BAR_CELLS / 2))));
+  return '█'.repeat(filled) + '░'.repeat(BAR_CELLS - filled);
+}
+
 /** Prose wrapped to the report's width, its first line after `first`, the rest after `rest`. */
 function indented(text: string, first: string, rest: string): string[] {
   return wrap(text, REPORT_COLUMNS - first.length, rest.slice(first.length)).map((line) => first + line);
@@ -228,10 +243,10 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
   out.push(`Nets, weakest first (${r.nets.length})`);
   out.push(
     ...table(
-      ['  net', 'driver', 'fan', 'high', 'low', 'NM_H', 'NM_L', 'cutoff', 'more', 'status'],
+      ['  net', 'drv', 'fan', 'high', 'low', 'NM_H', 'NM_L', 'cutoff', 'more', 'status'],
       r.nets.map((n) => [
         '  ' + n.name,
-        n.kind === 'input' ? 'input' : `${n.driver.split(' ')[0]} sect`,
+        n.kind === 'input' ? 'in' : n.driver.split(' ')[0]!,
         String(n.fanout),
         v(n.high?.worst),
         v(n.low?.worst),
@@ -239,13 +254,14 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
         v(n.margin.low),
         v(n.cutoffMargin?.volts),
         n.headroom === undefined ? '—' : n.headroom >= MAX_EXTRA_LOADS ? `${MAX_EXTRA_LOADS}+` : String(n.headroom),
-        statusText(n),
+        `${marginBar(n, r.requiredMargin)} ${statusText(n)}`,
       ]),
-      [16, 6, 3, 7, 7, 7, 7, 6, 4],
+      [16, 3, 3, 7, 7, 7, 7, 6, 4],
     ),
   );
-  out.push('  (volts, worst case; "more": extra standard loads it can take; drive margins');
-  out.push('  are in the JSON report)');
+  out.push('  (volts, worst case; drv: sections driving it, "in" for an input; more:');
+  out.push('  extra standard loads it can take; the bar: the smaller noise margin, with');
+  out.push('  the required one at its middle; drive margins are in --json)');
   if (r.latches.length > 0) {
     out.push('');
     out.push(`Latches (${r.latches.length})`);

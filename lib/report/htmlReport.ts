@@ -68,11 +68,17 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
       )
       .join('')}</tbody></table></section>`;
 
-  const explained = check.nets.filter((n) => n.weakest && n.weakest.causes.length > 0).slice(0, 3);
+  // The three weakest kinds of net, each named with the nets alike.
+  const explained = check.nets.filter((n, i, all) => n.weakest && n.weakest.causes.length > 0 && all.findIndex((m) => m.classId === n.classId) === i).slice(0, 3);
   if (explained.length > 0) {
     parts.push(
       `<section id="why"><h2>What makes the weakest nets weak</h2>${explained
-        .map((n) => `<h3>${e(n.name)}</h3><ul>${n.weakest!.causes.map((c) => `<li>${e(c.kind)} ${e(c.target)} at its ${c.end} end: moves the ${n.weakest!.what === 'low' ? 'low' : 'high'} level ${c.volts >= 0 ? 'up' : 'down'} ${Math.abs(c.volts).toFixed(2)} V</li>`).join('')}</ul>`)
+        .map((n) => {
+          const alike = check.nets.filter((m) => m.classId === n.classId && m !== n).map((m) => m.name);
+          const also = alike.length ? `<p class="alike">Alike: ${e(alike.slice(0, 12).join(', '))}${alike.length > 12 ? ` and ${alike.length - 12} more` : ''}.</p>` : '';
+          const causes = n.weakest!.causes.map((c) => `<li>${e(c.kind)} ${e(c.target)} at its ${c.end} end: moves the ${n.weakest!.what === 'low' ? 'low' : 'high'} level ${c.volts >= 0 ? 'up' : 'down'} ${Math.abs(c.volts).toFixed(2)} V</li>`).join('');
+          return `<h3>${e(n.name)}${n.reasons[0] ? `: ${e(n.reasons[0])}` : ''}</h3>${also}<ul>${causes}</ul>`;
+        })
         .join('')}</section>`,
     );
   }
@@ -189,5 +195,5 @@ h1{font-size:28px;margin:0 0 4px}h2{font-size:20px;border-bottom:2px solid #e6e2
 table{border-collapse:collapse;margin:12px 0;font-size:13px}th,td{padding:3px 10px;text-align:left;border-bottom:1px solid #e6e2d8;vertical-align:top}
 tr.fail td{color:${PALETTE.fail}}th{background:#efeadf}
 .plots{display:flex;flex-wrap:wrap;gap:18px}figure.plot{margin:8px 0}figcaption{font-size:12px;color:#6b6f80;max-width:520px}
-dt{font-weight:bold;margin-top:6px}dd{margin-left:18px}footer{margin-top:40px;font-size:12px;color:#6b6f80}
+h3{font-size:16px;margin-bottom:2px}.alike{margin:0;color:#6b6f80;font-size:13px}dt{font-weight:bold;margin-top:6px}dd{margin-left:18px}footer{margin-top:40px;font-size:12px;color:#6b6f80}
 `;
