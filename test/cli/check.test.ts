@@ -79,6 +79,15 @@ describe('tubemargin check', () => {
     }
   });
 
+  it('colours the verdict only on a terminal without NO_COLOR, or when FORCE_COLOR asks', async () => {
+    const ANSI = /\u001b\[/;
+    const check = (tty: boolean, env: Record<string, string> = {}) => run(['check', 'nets/nor-adder.tube'], {}, { tty, env });
+    expect((await check(true)).out).toMatch(ANSI);
+    expect((await check(true, { NO_COLOR: '1' })).out).not.toMatch(ANSI);
+    expect((await check(false)).out).not.toMatch(ANSI);
+    expect((await check(false, { FORCE_COLOR: '1' })).out).toMatch(ANSI);
+  });
+
   it('shows the safety cautions for a design whose rails exceed 60 V', async () => {
     const r = await run(['check', 'nets/crate-tally.tube']);
     expect(r.out).toContain('CAUTION: hv (up to 158 V), neg (up to 78.8 V), LINE_A (up to 150 V), LINE_B (up');
