@@ -24,6 +24,17 @@ Examples:
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
 
+/** The options `check` and `report` share: the requirement, the ageing scenario and the Monte Carlo run. */
+function withCheckOptions(command: Command): Command {
+  return command
+    .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
+    .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
+    .option('--samples <N>', 'add a Monte Carlo run of N samples: yield, margin distributions, parts behind failures')
+    .option('--seed <S>', 'seed of the Monte Carlo run (default 1): the same seed, the same result')
+    .option('--distribution <D>', 'how values are drawn: uniform, normal (tolerance = 3σ), graded (default uniform)')
+    .option('--workers <K>', 'threads for the Monte Carlo run (default: every core)');
+}
+
 /**
  * Runs the command line `argv` (without the node and script names) against `io`; resolves
  * to the exit code. Never throws for bad input: unknown commands or options print a
@@ -65,17 +76,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
       code = runSolve(file, { ...program.opts(), ...opts }, io);
     });
 
-  program
-    .command('check')
-    .summary(CHECK_SUMMARY)
-    .description(CHECK_SUMMARY + '\n' + CHECK_HELP)
-    .argument('<file>', 'design file (.tube text or .json)')
-    .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
-    .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
-    .option('--samples <N>', 'add a Monte Carlo run of N samples: yield, margin distributions, parts behind failures')
-    .option('--seed <S>', 'seed of the Monte Carlo run (default 1): the same seed, the same result')
-    .option('--distribution <D>', 'how values are drawn: uniform, normal (tolerance = 3σ), graded (default uniform)')
-    .option('--workers <K>', 'threads for the Monte Carlo run (default: every core)')
+  withCheckOptions(program.command('check').summary(CHECK_SUMMARY).description(CHECK_SUMMARY + '\n' + CHECK_HELP).argument('<file>', 'design file (.tube text or .json)'))
     .option('--shrink', 'find a failing set of part values and shrink it to the smallest')
     .option('--json', 'print the report as tubemargin.report/1 JSON')
     .action(async (file: string, opts: CheckCliOptions) => {
@@ -96,18 +97,8 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
       code = runSweep(file, { ...program.opts(), ...opts }, io);
     });
 
-  program
-    .command('report')
-    .summary(REPORT_SUMMARY)
-    .description(REPORT_SUMMARY + '\n' + REPORT_HELP)
-    .argument('<file>', 'design file (.tube text or .json)')
+  withCheckOptions(program.command('report').summary(REPORT_SUMMARY).description(REPORT_SUMMARY + '\n' + REPORT_HELP).argument('<file>', 'design file (.tube text or .json)'))
     .option('-o, --output <FILE>', 'where to write the HTML report')
-    .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
-    .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
-    .option('--samples <N>', 'add a Monte Carlo run of N samples and its histograms')
-    .option('--seed <S>', 'seed of the Monte Carlo run (default 1)')
-    .option('--distribution <D>', 'uniform, normal (tolerance = 3σ), graded (default uniform)')
-    .option('--workers <K>', 'threads for the Monte Carlo run (default: every core)')
     .option('--rail <NAME=FROM:TO:STEP>', 'add a supply map over this rail; give one or two', collect, [])
     .option('--heater <F>', 'heater voltage for the supply map, as a fraction of nominal')
     .action(async (file: string, opts: ReportCliOptions) => {
