@@ -161,7 +161,8 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   const all = [...thresholds.values()].flat();
   const vils = all.flatMap((t) => (t.vilMin === undefined ? [] : [t.vilMin]));
   const vihs = all.flatMap((t) => (t.vihMax === undefined ? [] : [t.vihMax]));
-  const designWide = vils.length > 0 && vihs.length > 0 ? { vil: Math.min(...vils), vih: Math.max(...vihs) } : undefined;
+  // reduce, not spread: a large design has more receivers than a call takes arguments.
+  const designWide = vils.length > 0 && vihs.length > 0 ? { vil: vils.reduce((a, b) => Math.min(a, b)), vih: vihs.reduce((a, b) => Math.max(a, b)) } : undefined;
   const load = standardLoad(chain);
   // A receiving stage whose gain never reaches 1 is its own failure, not the driving net's.
   const flatInputs = new Map<string, string[]>();
@@ -173,7 +174,7 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, flatInputs, inLoop, options.headroom ?? true, required, load, designWide));
   nets.sort((a, b) => (a.status === 'unchecked') !== (b.status === 'unchecked') ? (a.status === 'unchecked' ? 1 : -1) : a.slack - b.slack || compareNames(a.name, b.name));
   // The parameters behind the weakness, for every failing net and the three weakest classes.
-  const weakestClasses = new Set(nets.map((n) => n.classId).filter((c, i, all) => all.indexOf(c) === i).slice(0, 3));
+  const weakestClasses = new Set([...new Set(nets.map((n) => n.classId))].slice(0, 3));
   for (const n of nets) {
     if (n.weakest && (n.status === 'fail' || weakestClasses.has(n.classId))) n.weakest.causes = causesOf(chain, chain.nets.get(n.name)!, n.weakest.what);
   }

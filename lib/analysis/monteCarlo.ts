@@ -275,12 +275,14 @@ export function summarizeSamples(setup: SamplingSetup, parameters: readonly Loca
     correlated: correlated.slice(0, 5),
     failing: outcomes.flatMap((o, k) => (o.pass ? [] : [k])).slice(0, 10),
     histograms: [...nets.keys()]
+      .filter((k) => !Number.isNaN(nets[k]!.p1))
       .sort((a, b) => nets[a]!.p1 - nets[b]!.p1)
       .slice(0, 4)
       .map((k) => {
         const ms = outcomes.map((o) => o.margins[k]!).filter((m) => !Number.isNaN(m));
-        const from = Math.min(...ms);
-        const to = Math.max(...ms);
+        // reduce, not spread: a run may hold more samples than a call takes arguments.
+        const from = ms.reduce((a, b) => Math.min(a, b), Infinity);
+        const to = ms.reduce((a, b) => Math.max(a, b), -Infinity);
         const counts = new Array<number>(BINS).fill(0);
         const width = (to - from) / BINS || 1;
         for (const m of ms) counts[Math.min(BINS - 1, Math.floor((m - from) / width))]!++;
