@@ -2,6 +2,7 @@ import { Command, CommanderError } from 'commander';
 import { processIo, type CliIo } from './io.js';
 import { EXIT } from './load.js';
 import { CHECK_HELP, CHECK_SUMMARY, runCheck, type CheckCliOptions } from './check.js';
+import { FIT_HELP, FIT_SUMMARY, runFit, type FitCliOptions } from './fit.js';
 import { REPORT_HELP, REPORT_SUMMARY, runReport, type ReportCliOptions } from './report.js';
 import { SWEEP_HELP, SWEEP_SUMMARY, runSweep, type SweepCliOptions } from './sweep.js';
 import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
@@ -20,6 +21,7 @@ Examples:
   tubemargin check nets/nor-adder.tube --samples 10000 --seed 7
   tubemargin sweep nets/nor-adder.tube --rail bp=18:30:1 --rail bias=-16:-6:1
   tubemargin report nets/crate-tally.tube -o crate.html --samples 2000
+  tubemargin fit readings.csv --kind koren-triode -o mytubes.tube
   tubemargin tubes                               the tube library
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
@@ -103,6 +105,19 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--heater <F>', 'heater voltage for the supply map, as a fraction of nominal')
     .action(async (file: string, opts: ReportCliOptions) => {
       code = await runReport(file, { ...program.opts(), ...opts }, io);
+    });
+
+  program
+    .command('fit')
+    .summary(FIT_SUMMARY)
+    .description(FIT_SUMMARY + '\n' + FIT_HELP)
+    .argument('<readings>', 'bench readings, CSV')
+    .option('--kind <KIND>', 'model kind: koren-triode, koren-pentode, child-langmuir')
+    .option('--name <NAME>', 'name of the type written (default BENCH)')
+    .option('-o, --output <FILE>', 'write the type definition to FILE')
+    .option('--json', 'print the fit as tubemargin.fit/1 JSON')
+    .action((file: string, opts: FitCliOptions) => {
+      code = runFit(file, { ...program.opts(), ...opts }, io);
     });
 
   program

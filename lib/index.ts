@@ -67,3 +67,5 @@ export { DISTRIBUTIONS, GRADED_INNER, SampleDrawer, Sampler, drawSample, samplin
 export { analyzeAt, deviationsOf, valueAt, type Analysis, type Deviations } from './analysis/analyzeAt.js';
 export { shrinkFailure, type Deviation, type ShrinkResult } from './analysis/shrink.js';
 export { axisValues, MAX_SWEEP_POINTS, sweepRails, type SweepAxis, type RailSweepOptions, type SweepPoint, type RailSweepResult } from './analysis/sweep.js';
+export { fitReadings, levenbergMarquardt, type FitAnswer, type FitResult, type FittedParameters, type Reading } from './models/fit.js';
+export { parseReadings, READING_COLUMNS, OPTIONAL_COLUMNS } from './models/readings.js';

@@ -56,6 +56,11 @@ export const DIAGNOSTIC_CODES = [
   'outside-trusted-range',
   // supply sweeps
   'sweep-range',
+  // bench readings (fit)
+  'csv-syntax',
+  'csv-column',
+  'csv-value',
+  'fit-refused',
   // JSON designs
   'json-syntax',
   'json-schema',

@@ -39,6 +39,12 @@ export class LineIndex {
     return { line: lo + 1, col: offset - (starts[lo] as number) + 1, offset };
   }
 
+  /** The offset of 1-based `line` and `col` (clamped to the text). */
+  offsetOf(line: number, col: number): number {
+    const start = this.lineStarts[Math.max(0, Math.min(line, this.lineStarts.length) - 1)] ?? 0;
+    return Math.min(this.text.length, start + col - 1);
+  }
+
   span(file: string, start: number, end: number): SourceSpan {
     return { file, start: this.at(start), end: this.at(end) };
   }
