@@ -3,6 +3,7 @@ import { processIo, type CliIo } from './io.js';
 import { EXIT } from './load.js';
 import { CHECK_HELP, CHECK_SUMMARY, runCheck, type CheckCliOptions } from './check.js';
 import { FIT_HELP, FIT_SUMMARY, runFit, type FitCliOptions } from './fit.js';
+import { TUNE_HELP, TUNE_SUMMARY, runTune, type TuneCliOptions } from './tune.js';
 import { REPORT_HELP, REPORT_SUMMARY, runReport, type ReportCliOptions } from './report.js';
 import { SWEEP_HELP, SWEEP_SUMMARY, runSweep, type SweepCliOptions } from './sweep.js';
 import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
@@ -22,6 +23,7 @@ Examples:
   tubemargin sweep nets/nor-adder.tube --rail bp=18:30:1 --rail bias=-16:-6:1
   tubemargin report nets/crate-tally.tube -o crate.html --samples 2000
   tubemargin fit readings.csv --kind koren-triode -o mytubes.tube
+  tubemargin tune nets/nor-adder.tube --stage y2 --series E24
   tubemargin tubes                               the tube library
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
@@ -118,6 +120,19 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--json', 'print the fit as tubemargin.fit/1 JSON')
     .action((file: string, opts: FitCliOptions) => {
       code = runFit(file, { ...program.opts(), ...opts }, io);
+    });
+
+  program
+    .command('tune')
+    .summary(TUNE_SUMMARY)
+    .description(TUNE_SUMMARY + '\n' + TUNE_HELP)
+    .argument('<file>', 'design file (.tube text or .json)')
+    .option('--stage <NET>', 'the stage (its output net) whose resistors to choose')
+    .option('--series <E>', 'preferred-value series: E6, E12, E24, E96 (default E12)')
+    .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
+    .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
+    .action((file: string, opts: TuneCliOptions) => {
+      code = runTune(file, { ...program.opts(), ...opts }, io);
     });
 
   program

@@ -69,3 +69,5 @@ export { shrinkFailure, type Deviation, type ShrinkResult } from './analysis/shr
 export { axisValues, MAX_SWEEP_POINTS, sweepRails, type SweepAxis, type RailSweepOptions, type SweepPoint, type RailSweepResult } from './analysis/sweep.js';
 export { fitReadings, levenbergMarquardt, type FitAnswer, type FitResult, type FittedParameters, type Reading } from './models/fit.js';
 export { parseReadings, READING_COLUMNS, OPTIONAL_COLUMNS } from './models/readings.js';
+export { E_SERIES, preferredValues, type SeriesName } from './design/preferredValues.js';
+export { DERATING, tuneStage, type TuneCandidate, type TuneOptions, type TuneResult } from './analysis/tune.js';

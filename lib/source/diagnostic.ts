@@ -61,6 +61,8 @@ export const DIAGNOSTIC_CODES = [
   'csv-column',
   'csv-value',
   'fit-refused',
+  // resistor choice (tune)
+  'tune-stage',
   // JSON designs
   'json-syntax',
   'json-schema',
