@@ -84,7 +84,7 @@ export function readCheckOptions(options: CheckCliOptions, io: CliIo): CheckSett
 /** The check of a loaded design and, when asked, its Monte Carlo run; a number is the exit code of a design that cannot be solved (reported). */
 export async function checkWithSamples(loaded: { design: Design; sources: Map<string, string> }, settings: CheckSettings, io: CliIo): Promise<{ result: CheckResult; sampled: MonteCarloResult | undefined } | number> {
   const { margin, scenario, samples, seed, distribution, workers } = settings;
-  const result = checkMargins(loaded.design, { requiredMargin: margin, scenario });
+  const result = checkMargins(loaded.design, { requiredMargin: margin, scenario, ratings: true });
   if (!('verdict' in result)) {
     report(result.diagnostics, loaded.sources, io);
     return EXIT.badInput;

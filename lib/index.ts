@@ -70,4 +70,5 @@ export { axisValues, MAX_SWEEP_POINTS, sweepRails, type SweepAxis, type RailSwee
 export { fitReadings, levenbergMarquardt, type FitAnswer, type FitResult, type FittedParameters, type Reading } from './models/fit.js';
 export { parseReadings, READING_COLUMNS, OPTIONAL_COLUMNS } from './models/readings.js';
 export { E_SERIES, preferredValues, type SeriesName } from './design/preferredValues.js';
-export { DERATING, tuneStage, type TuneCandidate, type TuneOptions, type TuneResult } from './analysis/tune.js';
+export { tuneStage, type TuneCandidate, type TuneOptions, type TuneResult } from './analysis/tune.js';
+export { DERATING, ratingsOf, type HeaterBudget, type Ratings, type ResistorRating, type SectionRating } from './analysis/ratings.js';

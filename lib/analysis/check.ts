@@ -1,7 +1,8 @@
 import type { Design } from '../design/model.js';
 import { buildStageGraph, compareNames, type StageGraph } from '../graph/stageGraph.js';
 import { joinNets } from '../solve/circuit.js';
-import { logicThreshold } from '../solve/operatingPoint.js';
+import { logicThreshold, solveOperatingPoint } from '../solve/operatingPoint.js';
+import { ratingsOf, type Ratings } from './ratings.js';
 import type { Diagnostic } from '../source/diagnostic.js';
 import { AGEING_SCENARIOS, type AgeingScenario } from './ageing.js';
 import { fanoutHeadroom, MAX_EXTRA_LOADS, standardLoad, type StandardLoad } from './fanoutHeadroom.js';
@@ -21,6 +22,8 @@ export interface CheckOptions {
   graph?: StageGraph;
   /** Work out fan-out headroom (true when absent); a supply sweep, which needs only the verdict, leaves it out. */
   headroom?: boolean;
+  /** Work out ratings and budgets (false when absent): a nominal full solve and the corners of largest dissipation. */
+  ratings?: boolean;
 }
 
 /** One parameter's part in making a level weak. */
@@ -87,6 +90,8 @@ export interface CheckResult {
   localSolves: number;
   /** One transfer curve per distinct kind of receiving stage, for drawing. */
   stageKinds: StageKind[];
+  /** Ratings and budgets, when asked for. */
+  ratings: Ratings | undefined;
 }
 
 /** A kind of receiving stage as seen from the net that drives it: its transfer curves and the levels around them. */
@@ -179,7 +184,12 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
     if (n.weakest && (n.status === 'fail' || weakestClasses.has(n.classId))) n.weakest.causes = causesOf(chain, chain.nets.get(n.name)!, n.weakest.what);
   }
   const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => latchCheck(chain, l.nets as [string, string]));
-  const failed = nets.some((n) => n.status === 'fail') || latches.some((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined)) || !chain.settled;
+  let ratings: Ratings | undefined;
+  if (options.ratings) {
+    const op = solveOperatingPoint(design, { graph });
+    ratings = ratingsOf(design, chain, 'nodes' in op && op.converged ? op : undefined);
+  }
+  const failed = nets.some((n) => n.status === 'fail') || latches.some((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined)) || !chain.settled || ratings?.ok === false;
   return {
     title: design.title,
     scenario,
@@ -192,6 +202,7 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
     rounds: chain.rounds,
     localSolves: chain.solves,
     stageKinds: [...kinds.values()],
+    ratings,
   };
 }
 

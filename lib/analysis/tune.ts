@@ -3,6 +3,7 @@ import { preferredValues, type SeriesName } from '../design/preferredValues.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import type { AgeingScenario } from './ageing.js';
 import { checkMargins, type CheckResult } from './check.js';
+import { DERATING } from './ratings.js';
 
 export interface TuneOptions {
   /** The stage (its output net) whose resistors are chosen. */
@@ -37,9 +38,6 @@ export interface TuneResult {
   best: TuneCandidate[];
   evaluated: number;
 }
-
-/** Resistors may dissipate half their rating (common practice, no source). */
-export const DERATING = 0.5;
 
 /**
  * Chooses a stage's plate load, input series resistors and pull-downs from an IEC 60063

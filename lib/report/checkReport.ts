@@ -3,6 +3,7 @@ import { MAX_EXTRA_LOADS } from '../analysis/fanoutHeadroom.js';
 import { CUTOFF_FRACTION } from '../analysis/gridMargins.js';
 import type { MonteCarloResult } from '../analysis/monteCarlo.js';
 import type { ShrinkResult } from '../analysis/shrink.js';
+import { DERATING, type Ratings } from '../analysis/ratings.js';
 import type { Design } from '../design/model.js';
 import { cutList, formatSI, table, wrap } from './format.js';
 import { safetyCautions } from './safety.js';
@@ -51,6 +52,15 @@ export interface ReportJson {
     nets: { net: string; min: number | null; p1: number | null; median: number | null; failures: number }[];
     correlated: { parameter: string; kind: string; correlation: number }[];
     failingSamples: number[];
+  };
+  /** Ratings and budgets. */
+  ratings?: {
+    ok: boolean;
+    sections: { section: string; model: string; plateWatts: number; screenWatts: number; plateRating: number | null; screenRating: number | null; ok: boolean }[];
+    resistors: { resistor: string; watts: number; rating: number; share: number; ok: boolean }[];
+    rails: { rail: string; volts: number; amps: number | null; watts: number | null }[];
+    heaters: { model: string; designation: string; envelopes: number; volts: number; amps: number; strings: { rail: string; perString: number; strings: number; droppingOhms: number; droppingWatts: number }[] }[];
+    followers: { section: string; volts: number | null; rating: number | null; ok: boolean }[];
   };
   /** Present with `--shrink`. */
   shrink?: { found: boolean; seed: number; runs: number; shrinks: number; deviations: { parameter: string; kind: string; deviation: number; value: number }[]; failing: string[] };
@@ -119,6 +129,17 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
     definitions: DEFINITIONS,
     cautions: safetyCautions(design),
   };
+  if (r.ratings) {
+    const g = r.ratings;
+    json.ratings = {
+      ok: g.ok,
+      sections: g.sections.map((x) => ({ ...x, plateRating: x.plateRating ?? null, screenRating: x.screenRating ?? null })),
+      resistors: g.resistors,
+      rails: g.rails.map((x) => ({ ...x, amps: num(x.amps), watts: num(x.watts) })),
+      heaters: g.heaters,
+      followers: g.followers.map((x) => ({ ...x, volts: num(x.volts), rating: x.rating ?? null })),
+    };
+  }
   if (mc) {
     json.monteCarlo = {
       samples: mc.samples,
@@ -184,6 +205,25 @@ function renderSamples(mc: MonteCarloResult, required: number): string[] {
   return out;
 }
 
+/** Ratings and budgets: what is over its rating, the most loaded parts, the rails' currents and the heater budget. */
+function renderRatings(g: Ratings): string[] {
+  const out = [`Ratings and budgets${g.ok ? '' : ': OVER RATING'}`];
+  const overSections = g.sections.filter((s) => !s.ok);
+  const overResistors = g.resistors.filter((r) => !r.ok);
+  for (const s of overSections) out.push(...indented(`${s.section} dissipates up to ${formatSI(s.plateWatts, 'W')} on its plate and ${formatSI(s.screenWatts, 'W')} on its screen, over its rating (${formatSI(s.plateRating ?? NaN, 'W')}, ${formatSI(s.screenRating ?? NaN, 'W')})`, '  ', '    '));
+  for (const r of overResistors.slice(0, 8)) out.push(...indented(`${r.resistor} takes up to ${formatSI(r.watts, 'W')}, ${Math.round(r.share * 100)} % of its ${formatSI(r.rating, 'W')} rating (keep it under ${Math.round(DERATING * 100)} %)`, '  ', '    '));
+  if (overResistors.length > 8) out.push(`  and ${overResistors.length - 8} more resistors over ${Math.round(DERATING * 100)} % of their rating`);
+  const hot = g.sections[0];
+  if (hot) out.push(...indented(`Most plate dissipation, worst case: ${hot.section}, ${formatSI(hot.plateWatts, 'W')}${hot.plateRating === undefined ? '' : ` of ${formatSI(hot.plateRating, 'W')}`}; most loaded resistor: ${g.resistors[0] ? `${g.resistors[0].resistor}, ${Math.round(g.resistors[0].share * 100)} % of its rating` : 'none'}.`, '  ', '    '));
+  out.push(...indented(`Rails at the nominal operating point: ${g.rails.map((r) => `${r.rail} ${formatSI(r.amps, 'A')} (${formatSI(Math.abs(r.watts), 'W')})`).join(', ')}.`, '  ', '    '));
+  for (const h of g.heaters) {
+    const strings = h.strings.map((s) => `${s.strings} strings of ${s.perString} across ${s.rail} with ${formatSI(s.droppingOhms, 'Ω')} (${formatSI(s.droppingWatts, 'W')}) each`).join('; or ');
+    out.push(...indented(`Heaters, ${h.model} (${h.designation}): ${h.envelopes} envelopes at ${h.volts} V, ${formatSI(h.amps, 'A')} each, ${formatSI(h.envelopes * h.amps, 'A')} in parallel${strings ? `; or ${strings}` : ''}.`, '  ', '    '));
+  }
+  for (const f of g.followers) out.push(...indented(`${f.section}, a cathode follower: ${v(f.volts)} V heater to cathode${f.rating === undefined ? '' : ` against ${f.rating} V`}${f.ok ? '' : ': OVER'}`, '  ', '    '));
+  return out;
+}
+
 /** The `--shrink` section: the smallest failing set of part values found, or that none was. */
 function renderShrink(s: ShrinkResult): string[] {
   if (!s.found) return indented(`Shrink: no failing set of part values found at the worst corners or in ${s.runs} random cases (seed ${s.seed}).`, '', '  ');
@@ -233,10 +273,11 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
   out.push(`${design.title || '(untitled design)'} — ${source}`);
   const latchWords = r.latches.length > 0 ? ' and every latch holds and switches' : '';
   const failWords = [`${failing.length} of ${r.nets.length} nets`, ...(r.latches.length > 0 ? [`${badLatches.length} of ${r.latches.length} latches`] : [])].join(' and ');
+  const overRating = r.ratings?.ok === false ? ' Parts run over their ratings (below).' : '';
   const verdict =
     r.verdict === 'pass'
       ? `PASS: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}).`
-      : `FAIL: ${failWords} fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.`;
+      : `FAIL: ${failWords} fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.${overRating}`;
   out.push(...wrap(verdict, REPORT_COLUMNS));
   if (!r.settled) out.push(...wrap(`The worst-case levels around a loop did not settle in ${r.rounds} rounds.`, REPORT_COLUMNS));
   out.push('');
@@ -312,6 +353,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
     out.push(...indented(`Latch ${l.nets.join(' ↔ ')}: ${l.holds ? 'holds' : 'does NOT hold'}${l.reasons.length ? ': ' + l.reasons.join('; ') : ''}`, '', '  '));
     for (const i of l.inputs) if (!i.switches && i.note === undefined) out.push(...indented(`${i.input} at its weakest asserted level ${v(i.asserted)} V does not switch it`, '  ', '    '));
   }
+  if (r.ratings) out.push('', ...renderRatings(r.ratings));
   if (mc) out.push('', ...renderSamples(mc, r.requiredMargin));
   if (shrunk) out.push('', ...renderShrink(shrunk));
   out.push('');
