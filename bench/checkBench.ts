@@ -15,6 +15,8 @@ export interface CheckBenchRow {
   solveMs: number;
   /** Reading the text and building the stage graph, which the command adds to both (ms, median). */
   frontMs: number;
+  /** `checkMargins` with ratings and budgets, as the `check` command runs it (ms, median). */
+  withRatingsMs: number;
   localSolves: number;
   verdict: string;
 }
@@ -31,6 +33,7 @@ export function benchCheck(sizes: number[], runs = 7): CheckBenchRow[] {
     const checks: number[] = [];
     const solves: number[] = [];
     const fronts: number[] = [];
+    const rated: number[] = [];
     const run = () => {
       const r = checkMargins(design, { graph });
       if (!('verdict' in r)) throw new Error('the generated design does not compile');
@@ -49,7 +52,10 @@ export function benchCheck(sizes: number[], runs = 7): CheckBenchRow[] {
       t0 = performance.now();
       buildStageGraph(loadDesign('generated.tube', text).design!);
       fronts.push(performance.now() - t0);
+      t0 = performance.now();
+      checkMargins(design, { graph, ratings: true });
+      rated.push(performance.now() - t0);
     }
-    return { stages, nets: graph.nets.length, checkMs: median(checks), solveMs: median(solves), frontMs: median(fronts), localSolves: last.localSolves, verdict: last.verdict };
+    return { stages, nets: graph.nets.length, checkMs: median(checks), solveMs: median(solves), frontMs: median(fronts), withRatingsMs: median(rated), localSolves: last.localSolves, verdict: last.verdict };
   });
 }
