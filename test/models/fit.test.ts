@@ -44,6 +44,28 @@ describe('fitting a model to bench readings', () => {
     expect(fit.rmsError).toBeLessThan(0.01);
   });
 
+  it('recovers a pentode from plate and screen readings within 2 %, kg2 included (Koren pentode)', () => {
+    const truth = { name: 'truth', kind: 'koren-pentode', mu: 36, ex: 1.35, kg1: 2744, kg2: 2103, kp: 120, kvb: 8, rgi: 2000, vgamma: 0, spread: 0 } as TubeModel;
+    const n = normals(5);
+    const readings: Reading[] = [];
+    for (const [tube, f] of [['A', 0.95], ['B', 1.05]] as const) {
+      for (const plateVolts of [5, 10, 20, 40, 60]) {
+        for (const gridVolts of [0, -1, -2, -3]) {
+          for (const screenVolts of [24, 48]) {
+            const c = tubeCurrents(truth, { vgk: gridVolts, vak: plateVolts, vg2k: screenVolts }, { ...NOMINAL_VARIATION, perveance: f });
+            if (c.plate < 1e-6) continue;
+            readings.push({ tube, plateVolts, gridVolts, screenVolts, plateAmps: c.plate * (1 + 0.005 * n()), screenAmps: c.screen * (1 + 0.005 * n()) });
+          }
+        }
+      }
+    }
+    const answer = fitReadings(readings, 'koren-pentode');
+    if ('refusal' in answer) throw new Error(answer.refusal);
+    const g = Math.sqrt(0.95 * 1.05);
+    const expected = { mu: 36, ex: 1.35, kg1: 2744 / g, kg2: 2103 / g, kp: 120, kvb: 8 };
+    for (const [k, v] of Object.entries(expected)) expect(Math.abs((answer.fit.model as unknown as Record<string, number>)[k]! / v - 1), k).toBeLessThan(0.02);
+  });
+
   it("gives a synthetic lot's spread within its sampling error: twelve tubes drawn within ±20 %", () => {
     const n = normals(11);
     const factors: Record<string, number> = {};
