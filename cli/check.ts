@@ -1,7 +1,7 @@
-import { AGEING_SCENARIOS, checkMargins, DISTRIBUTIONS, findScenario, samplingThresholds, shrinkFailure, type AgeingScenario, type CheckResult, type Design, type Distribution, type MonteCarloResult } from '../lib/index.js';
+import { AGEING_SCENARIOS, checkMargins, DISTRIBUTIONS, samplingThresholds, shrinkFailure, type AgeingScenario, type CheckResult, type Design, type Distribution, type MonteCarloResult } from '../lib/index.js';
 import { checkToJson, renderCheck } from '../lib/report/checkReport.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
+import { EXIT, loadForCommand, readRequirement, report, usageError, type GlobalOptions } from './load.js';
 import { defaultWorkers, MAX_SAMPLES, runSamples } from './sampling.js';
 import { chalkFor } from './style.js';
 
@@ -62,14 +62,9 @@ export interface CheckSettings {
 
 export function readCheckOptions(options: CheckCliOptions, io: CliIo): CheckSettings | number {
   const bad = (message: string) => usageError(io, message);
-  let margin: number | undefined;
-  if (options.margin !== undefined) {
-    const m = /^\s*(\d+(?:\.\d+)?)\s*(?:V)?\s*$/.exec(options.margin);
-    if (!m) return bad(`--margin takes a voltage such as 1.5 or 1.5V, not '${options.margin}'`);
-    margin = Number(m[1]);
-  }
-  const scenario = findScenario(options.age ?? 'new');
-  if (!scenario) return bad(`--age takes one of ${AGEING_SCENARIOS.map((s) => s.name).join(', ')}, not '${options.age}'`);
+  const requirement = readRequirement(options, io);
+  if (typeof requirement === 'number') return requirement;
+  const { margin, scenario } = requirement;
   const samples = options.samples === undefined ? 0 : wholeNumber(options.samples, 1, MAX_SAMPLES);
   if (samples === undefined) return bad(`--samples takes a whole number from 1 to ${MAX_SAMPLES.toLocaleString('en')}, not '${options.samples}'`);
   const seed = options.seed === undefined ? 1 : wholeNumber(options.seed, 0, 2 ** 32 - 1);

@@ -1,4 +1,4 @@
-import { hasErrors, loadDesign, type Design, type Diagnostic } from '../lib/index.js';
+import { AGEING_SCENARIOS, findScenario, hasErrors, loadDesign, type AgeingScenario, type Design, type Diagnostic } from '../lib/index.js';
 import { formatDiagnostics } from './diagnostics.js';
 import { fileLoader, type CliIo } from './io.js';
 import { chalkFor } from './style.js';
@@ -40,4 +40,17 @@ export function report(diagnostics: Diagnostic[], sources: ReadonlyMap<string, s
 export function usageError(io: CliIo, message: string): number {
   io.stderr(`${chalkFor(io, 'stderr').red.bold('error')}: ${message}\n`);
   return EXIT.badInput;
+}
+
+/** `--margin` and `--age`, read and checked: the requirement every judging command takes. A number is the exit code of a usage error (printed). */
+export function readRequirement(options: { margin?: string; age?: string }, io: CliIo): { margin: number | undefined; scenario: AgeingScenario } | number {
+  let margin: number | undefined;
+  if (options.margin !== undefined) {
+    const m = /^\s*(\d+(?:\.\d+)?)\s*(?:V)?\s*$/.exec(options.margin);
+    if (!m) return usageError(io, `--margin takes a voltage such as 1.5 or 1.5V, not '${options.margin}'`);
+    margin = Number(m[1]);
+  }
+  const scenario = findScenario(options.age ?? 'new');
+  if (!scenario) return usageError(io, `--age takes one of ${AGEING_SCENARIOS.map((x) => x.name).join(', ')}, not '${options.age}'`);
+  return { margin, scenario };
 }

@@ -1,7 +1,7 @@
-import { AGEING_SCENARIOS, findScenario, sweepRails, type SweepAxis } from '../lib/index.js';
+import { sweepRails, type SweepAxis } from '../lib/index.js';
 import { renderSweep, sweepToJson } from '../lib/report/sweepReport.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
+import { EXIT, loadForCommand, readRequirement, report, usageError, type GlobalOptions } from './load.js';
 
 export const SWEEP_SUMMARY = 'supply window: the worst-case check over a grid of rail voltages';
 
@@ -43,10 +43,9 @@ export function runSweep(file: string, options: SweepCliOptions, io: CliIo): num
   if (typeof read === 'number') return read;
   const { axes, heater } = read;
   if (axes.length === 0) return usageError(io, 'give one or two --rail NAME=FROM:TO:STEP');
-  const margin = options.margin === undefined ? undefined : Number(options.margin.replace(/\s*V$/, ''));
-  if (margin !== undefined && !(margin >= 0)) return usageError(io, `--margin takes a voltage such as 1.5 or 1.5V, not '${options.margin}'`);
-  const scenario = findScenario(options.age ?? 'new');
-  if (!scenario) return usageError(io, `--age takes one of ${AGEING_SCENARIOS.map((s) => s.name).join(', ')}, not '${options.age}'`);
+  const requirement = readRequirement(options, io);
+  if (typeof requirement === 'number') return requirement;
+  const { margin, scenario } = requirement;
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
   const result = sweepRails(loaded.design, { axes, heater, requiredMargin: margin, scenario });

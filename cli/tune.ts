@@ -1,7 +1,7 @@
-import { AGEING_SCENARIOS, E_SERIES, findScenario, tuneStage, type SeriesName, type TuneCandidate } from '../lib/index.js';
+import { E_SERIES, tuneStage, type SeriesName, type TuneCandidate } from '../lib/index.js';
 import { formatSI, table, wrap } from '../lib/report/format.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
+import { EXIT, loadForCommand, readRequirement, report, usageError, type GlobalOptions } from './load.js';
 
 export const TUNE_SUMMARY = "choose a stage's resistors from a preferred-value series for the best margins";
 
@@ -25,10 +25,9 @@ export function runTune(file: string, options: TuneCliOptions, io: CliIo): numbe
   if (!options.stage) return usageError(io, 'name the stage to tune: --stage NET');
   const series = (options.series ?? 'E12') as SeriesName;
   if (!(series in E_SERIES)) return usageError(io, `--series takes one of ${Object.keys(E_SERIES).join(', ')}, not '${options.series}'`);
-  const margin = options.margin === undefined ? undefined : Number(options.margin.replace(/\s*V$/, ''));
-  if (margin !== undefined && !(margin >= 0)) return usageError(io, `--margin takes a voltage such as 1.5 or 1.5V, not '${options.margin}'`);
-  const scenario = findScenario(options.age ?? 'new');
-  if (!scenario) return usageError(io, `--age takes one of ${AGEING_SCENARIOS.map((s) => s.name).join(', ')}, not '${options.age}'`);
+  const requirement = readRequirement(options, io);
+  if (typeof requirement === 'number') return requirement;
+  const { margin, scenario } = requirement;
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
   const r = tuneStage(loaded.design, { stage: options.stage, series, requiredMargin: margin, scenario });
