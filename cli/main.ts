@@ -4,6 +4,7 @@ import { EXIT } from './load.js';
 import { CHECK_HELP, CHECK_SUMMARY, runCheck, type CheckCliOptions } from './check.js';
 import { FIT_HELP, FIT_SUMMARY, runFit, type FitCliOptions } from './fit.js';
 import { TUNE_HELP, TUNE_SUMMARY, runTune, type TuneCliOptions } from './tune.js';
+import { STEP_HELP, STEP_SUMMARY, runStep, type StepCliOptions } from './step.js';
 import { REPORT_HELP, REPORT_SUMMARY, runReport, type ReportCliOptions } from './report.js';
 import { SWEEP_HELP, SWEEP_SUMMARY, runSweep, type SweepCliOptions } from './sweep.js';
 import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
@@ -24,6 +25,7 @@ Examples:
   tubemargin report nets/crate-tally.tube -o crate.html --samples 2000
   tubemargin fit readings.csv --kind koren-triode -o mytubes.tube
   tubemargin tune nets/nor-adder.tube --stage y2 --series E24
+  tubemargin step nets/irrigation-sequencer.tube --sequence "pulse STOP; pulse bed[1]/START; expect bed[1]/on=1"
   tubemargin tubes                               the tube library
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
@@ -133,6 +135,19 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
     .action((file: string, opts: TuneCliOptions) => {
       code = runTune(file, { ...program.opts(), ...opts }, io);
+    });
+
+  program
+    .command('step')
+    .summary(STEP_SUMMARY)
+    .description(STEP_SUMMARY + '\n' + STEP_HELP)
+    .argument('<file>', 'design file (.tube text or .json)')
+    .option('--sequence <FILE|TEXT>', 'the input sequence: a file, or the actions themselves')
+    .option('--nets <A,B,…>', 'the nets to watch (default: every logic net)')
+    .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect, [])
+    .option('--json', 'print the steps as tubemargin.step/1 JSON')
+    .action((file: string, opts: StepCliOptions) => {
+      code = runStep(file, { ...program.opts(), ...opts }, io);
     });
 
   program

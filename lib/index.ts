@@ -72,3 +72,5 @@ export { parseReadings, READING_COLUMNS, OPTIONAL_COLUMNS } from './models/readi
 export { E_SERIES, preferredValues, type SeriesName } from './design/preferredValues.js';
 export { tuneStage, type TuneCandidate, type TuneOptions, type TuneResult } from './analysis/tune.js';
 export { DERATING, ratingsOf, type HeaterBudget, type Ratings, type ResistorRating, type SectionRating } from './analysis/ratings.js';
+export { parseSequence, type SequenceAction } from './analysis/sequence.js';
+export { stepDesign, type StepResult, type StepRow } from './analysis/stepper.js';

@@ -52,6 +52,17 @@ export class HeldNet {
     return converged && this.system.trueResidual(x) <= RESIDUAL_LIMIT ? x : undefined;
   }
 
+  /** Every net's voltage in a solution of this design. */
+  nodesOf(x: Float64Array): Map<string, number> {
+    const c = this.system!.circuit;
+    return new Map([...c.terminalOf].map(([net, t]) => [net, t >= 0 ? x[t]! : c.fixedVolts[-1 - t]!]));
+  }
+
+  /** The unknowns of this design's circuit from net voltages by name (0 where unknown). */
+  startFrom(nodes: ReadonlyMap<string, number>): Float64Array {
+    return Float64Array.from(this.system!.circuit.nodeNames, (name) => nodes.get(name) ?? 0);
+  }
+
   /** A net's voltage in a solution of this design. */
   voltsOf(x: Float64Array, net: string): number {
     const t = this.system!.circuit.terminalOf.get(net)!;

@@ -63,6 +63,8 @@ export const DIAGNOSTIC_CODES = [
   'fit-refused',
   // resistor choice (tune)
   'tune-stage',
+  // input sequences (step)
+  'sequence-syntax',
   // JSON designs
   'json-syntax',
   'json-schema',
