@@ -145,14 +145,18 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
    */
   const jump = (held: HeldNet, level: number, x: Float64Array): Float64Array | undefined => {
     const before = held.nodesOf(x);
-    const op = held.solveAt(level, { start: x });
-    // Undecided as `solve` says it: the two nets within a tenth of their swing of each other.
+    // Undecided as `solve` says it: the two nets of a latch within a tenth of their swing of each other.
     const undecidedLatches = (o: OperatingPoint) => latchPairs.filter(([a, b]) => Math.abs(o.nodes.get(a)! - o.nodes.get(b)!) < 0.2 * logicThreshold(design, a));
-    if (op && undecidedLatches(op).length === 0) return op.x;
-    const flip = new Set((op ? undecidedLatches(op) : []).map(([a]) => a));
-    const hints = latchPairs.map(([a]) => ({ net: a, high: (before.get(a)! > logicThreshold(design, a)) !== flip.has(a) }));
-    const pinned = held.solveAt(level, { hints });
-    return pinned && undecidedLatches(pinned).length === 0 ? pinned.x : undefined;
+    const was = (a: string) => before.get(a)! > logicThreshold(design, a);
+    // First every latch pinned where it was and released: those whose state is gone let go.
+    const pinned = held.solveAt(level, { start: x, hints: latchPairs.map(([a]) => ({ net: a, high: was(a) })) });
+    if (pinned && undecidedLatches(pinned).length === 0) return pinned.x;
+    const free = held.solveAt(level, { start: x });
+    if (free && undecidedLatches(free).length === 0) return free.x;
+    // Last, the latches left undecided are started in their other state.
+    const flip = new Set((pinned ? undecidedLatches(pinned) : []).map(([a]) => a));
+    const flipped = held.solveAt(level, { start: x, hints: latchPairs.map(([a]) => ({ net: a, high: was(a) !== flip.has(a) })) });
+    return flipped && undecidedLatches(flipped).length === 0 ? flipped.x : undefined;
   };
   solveStep('start');
   for (const a of actions) {
