@@ -33,4 +33,19 @@ describe('switching a latch with its set input', () => {
     const r = triggerMargin(latch('22 M'), { latch: ['q', 'nq'], input: 'set', leaves: 'nq', quiet: -12, asserted: 24 });
     expect(r).toEqual({ switches: false, threshold: undefined, triggerMargin: undefined });
   });
+
+  it('still converges when the hinted state is torn away: the pinned stage only leads the way', () => {
+    // At +120 V on the set input the latch has one state left. Pinning nq high cannot settle,
+    // but the released circuit must, and must land where a solve hinted the other way lands:
+    // Kirchhoff's current law has one solution here (a monostable circuit).
+    const d = latch('220 k');
+    const withSet: Design = { ...d, parts: d.parts.map((p) => (p.type === 'drive' && p.node === 'set' ? { ...p, volts: 120 } : p)) };
+    const torn = solveOperatingPoint(withSet, { hints: [{ net: 'nq', high: true }] });
+    const agreed = solveOperatingPoint(withSet, { hints: [{ net: 'nq', high: false }] });
+    if (!('nodes' in torn) || !('nodes' in agreed)) throw new Error('no solve');
+    expect(torn.converged).toBe(true);
+    expect(torn.residualAmps).toBeLessThan(1e-9);
+    expect(torn.hints[0]!.held).toBe(false);
+    for (const [net, v] of agreed.nodes) expect(torn.nodes.get(net)).toBeCloseTo(v, 6);
+  });
 });
