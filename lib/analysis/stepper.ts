@@ -113,7 +113,8 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
    */
   const ramp = (name: string) => {
     const sw = parts.get(name);
-    if (!previous || sw?.type !== 'switch') return;
+    // A contact already closed has nothing to ramp: pressing a held button changes nothing.
+    if (!previous || sw?.type !== 'switch' || closed.get(name)) return;
     const fixedVolts = (net: string) => (net === 'gnd' ? 0 : design.rails.find((r) => r.name === net)?.volts);
     const [node, target] = fixedVolts(sw.b) !== undefined ? [sw.a, fixedVolts(sw.b)!] : [sw.b, fixedVolts(sw.a)];
     const from = previous.get(node);
