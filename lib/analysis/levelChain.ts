@@ -48,7 +48,7 @@ function levelKeys(l: NetLevels): NonNullable<NetLevels['keys']> {
 /** One local solve of a net in one logic state: which driver conducts (for a low plate or a high cathode), or none. */
 export interface LevelCase {
   net: string;
-  /** Index into the net's drivers of the one that conducts; undefined for the case where none does. For input nets, the switch configuration: 0 open, 1 closed. */
+  /** Index into the net's drivers of the one that conducts; undefined for the case where none does. For input nets, the switch configuration: 0 all open, k the switches to the k-th rail they reach closed. */
   on: number | undefined;
 }
 
@@ -288,8 +288,7 @@ export class LevelChain {
       const net = this.nets.get(name)!;
       if (net.polarity !== 'input') continue;
       const l = this.levels.get(net.name)!;
-      const closedHigh = this.switchedHigh(net);
-      const states = this.inputConfigurations(net).map((on) => (closedHigh === undefined ? this.isHigh(net.name, this.solveCase({ net: net.name, on }).nominal) : (on === 1) === closedHigh));
+      const states = this.inputConfigurations(net).map((on) => this.inputHigh(net, on) ?? this.isHigh(net.name, this.solveCase({ net: net.name, on }).nominal));
       l.canHigh = states.includes(true);
       l.canLow = states.includes(false);
     }
@@ -314,9 +313,27 @@ export class LevelChain {
     }
   }
 
-  /** The switch configurations of an input net: as the design has it, or open (0) and closed (1) when switches tie it to a rail. */
+  /**
+   * The switch configurations of an input net: as the design has it, or all open (0) and,
+   * for each rail its switches reach, those switches closed (1, 2, …). Switches to two
+   * different rails are never closed together: that would short the rails.
+   */
   inputConfigurations(net: ChainNet): (number | undefined)[] {
-    return net.switches.length === 0 ? [undefined] : [0, 1];
+    return net.switches.length === 0 ? [undefined] : [0, ...this.switchGroups(net).map((_, k) => k + 1)];
+  }
+
+  /** An input net's switches grouped by the rail (or ground) each ties it to. */
+  private switchGroups(net: ChainNet): { rail: string; switches: string[] }[] {
+    const groups: { rail: string; switches: string[] }[] = [];
+    for (const name of net.switches) {
+      const sw = this.design.parts.find((p) => p.type === 'switch' && p.name === name);
+      if (!sw || sw.type !== 'switch') continue;
+      const rail = sw.a === net.name ? sw.b : sw.a;
+      const group = groups.find((g) => g.rail === rail);
+      if (group) group.switches.push(name);
+      else groups.push({ rail, switches: [name] });
+    }
+    return groups;
   }
 
   isHigh(net: string, volts: number): boolean {
@@ -333,10 +350,9 @@ export class LevelChain {
   private updateInput(net: ChainNet): void {
     const l = this.levels.get(net.name)!;
     Object.assign(l, { highNominal: NaN, highWorst: NaN, lowNominal: NaN, lowWorst: NaN, keys: undefined });
-    const closedHigh = this.switchedHigh(net);
     for (const on of this.inputConfigurations(net)) {
       const r = this.solveCase({ net: net.name, on });
-      const high = closedHigh === undefined ? this.isHigh(net.name, r.nominal) : (on === 1) === closedHigh;
+      const high = this.inputHigh(net, on) ?? this.isHigh(net.name, r.nominal);
       if (high) {
         l.highNominal = Math.min(Number.isNaN(l.highNominal) ? Infinity : l.highNominal, r.nominal);
         l.highWorst = Math.min(Number.isNaN(l.highWorst) ? Infinity : l.highWorst, r.worst ?? -Infinity);
@@ -348,14 +364,17 @@ export class LevelChain {
     l.keys = undefined;
   }
 
-  /** For a net with switches to a rail: whether closing them makes it high (their rail is above its threshold); undefined without switches. */
-  private switchedHigh(net: ChainNet): boolean | undefined {
-    if (net.switches.length === 0) return undefined;
-    const sw = this.design.parts.find((p) => p.type === 'switch' && p.name === net.switches[0]);
-    if (!sw || sw.type !== 'switch') return undefined;
-    const rail = sw.a === net.name ? sw.b : sw.a;
-    const volts = rail === 'gnd' ? 0 : (this.design.rails.find((r) => r.name === rail)?.volts ?? 0);
-    return this.isHigh(net.name, volts);
+  /**
+   * Whether an input configuration is the high state: closed switches give their rail's
+   * state, all open the other one; undefined where the level itself decides (no switches,
+   * or all open with switches pulling both ways).
+   */
+  private inputHigh(net: ChainNet, on: number | undefined): boolean | undefined {
+    if (on === undefined) return undefined;
+    const railHigh = this.switchGroups(net).map((g) => this.isHigh(net.name, g.rail === 'gnd' ? 0 : (this.design.rails.find((r) => r.name === g.rail)?.volts ?? 0)));
+    if (on > 0) return railHigh[on - 1];
+    // All open: the other state of switches that all pull one way; by its level when they pull both ways.
+    return railHigh.every((h) => h === railHigh[0]) ? !railHigh[0] : undefined;
   }
 
   /** The cases of a stage net that give its high level and its low level. */
@@ -456,7 +475,7 @@ export class LevelChain {
     const hit = this.results.get(cacheKey);
     if (hit) return hit;
     this.solves++;
-    const close = new Set(input && c.on === 1 ? net.switches : []);
+    const close = new Set(input && c.on !== undefined && c.on > 0 ? this.switchGroups(net)[c.on - 1]!.switches : []);
     const { problem } = this.problem(net.region, close, net.kind);
     const bands = this.bandsOf(net, on);
     const sense: 'min' | 'max' = input ? 'min' : (c.on === undefined) === (net.polarity === 'inverting') ? 'min' : 'max';

@@ -148,6 +148,24 @@ describe('local solves against the full solve (fast path against full solve)', (
   });
 });
 
+describe('input nets switched to more than one rail', () => {
+  it('take each rail\'s worst level with its own button closed, and never close both (a closed contact ties the net to its rail: Kirchhoff\'s voltage law)', () => {
+    const d = design(`rail hv = 100 V tol 5 %
+rail neg = -50 V tol 5 %
+defaults { tube = "6AU6" }
+button UP (n, hv)
+button DOWN (n, gnd)
+resistor RN (n, neg) 100 k
+stage a { load 47 k to hv; screen hv; input n series 470 k pulldown 390 k to neg }`);
+    const chain = chainOf(d);
+    const n = chain.levels.get('n')!;
+    expect(n.canHigh && n.canLow).toBe(true);
+    expect(n.highWorst).toBeCloseTo(95, 6);
+    expect(n.lowWorst).toBeCloseTo(0, 6);
+    expect(chain.levels.get('a')!.canHigh && chain.levels.get('a')!.canLow).toBe(true);
+  });
+});
+
 describe('the cost of the chain', () => {
   it('hardly grows with the number of identical cells: within 1.5× from 100 to 400 cells of a register (linear would be 4×)', () => {
     const solves = (stages: number) => chainOf(loadDesign('g.tube', generateRegister(stages)).design!).solves;
