@@ -26,6 +26,11 @@ export class HeldNet {
     this.fixed = circuit ? -1 - circuit.terminalOf.get(net)! : -1;
   }
 
+  /** False when the design with the net held does not compile (a closed contact already holds it at another level). */
+  get compiles(): boolean {
+    return this.system !== undefined;
+  }
+
   /** Solves with the net at `volts` (`hints` and `start` as for `solveOperatingPoint`); undefined if it does not converge. */
   solveAt(volts: number, options: Pick<SolveOptions, 'hints' | 'start'> = {}): OperatingPoint | undefined {
     if (!this.system) return undefined;

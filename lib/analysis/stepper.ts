@@ -120,6 +120,8 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
     const from = previous.get(node);
     if (target === undefined || from === undefined) return;
     const held = new HeldNet(designNow(), node);
+    // Held elsewhere already (another closed contact): the step's own solve reports the short.
+    if (!held.compiles) return;
     let x = held.continueAt(from, held.startFrom(previous));
     // Step-halving continuation: a step Newton cannot take is taken in halves. Where even a
     // millivolt step fails, a latch's state has ended (a fold): the circuit jumps, and a full

@@ -85,6 +85,21 @@ describe('stepping a design through its inputs', () => {
     expect(r.ok).toBe(true);
   }, 60_000);
 
+  it('reports a step whose buttons short a net to two rails as unsolved, and carries on', () => {
+    const d = design(`rail hv = 100 V
+rail neg = -50 V
+defaults { tube = "6AU6" }
+button UP (n, hv)
+button DOWN (n, gnd)
+resistor RN (n, neg) 100 k
+stage a { load 47 k to hv; screen hv; input n series 470 k pulldown 390 k to neg }`);
+    const r = stepDesign(d, parseSequence('s', 'press UP; press DOWN; release UP; expect a=1').value, { nets: ['a'] });
+    if (!('rows' in r)) throw new Error('no steps');
+    expect(r.rows.map((row) => row.converged)).toEqual([true, true, false, true]);
+    expect(r.rows[3]!.expected.every((e) => e.ok)).toBe(true);
+    expect(r.ok).toBe(false);
+  });
+
   it('sets and clears an irrigation zone with its Start and Stop buttons, the other zones untouched', () => {
     const seq = parseSequence('s', 'pulse STOP; expect bed[1]/on=0 bed[2]/on=0; pulse bed[2]/START; expect bed[1]/on=0 bed[2]/on=1; pulse STOP; expect bed[2]/on=0');
     const r = stepDesign(demo('nets/irrigation-sequencer.tube'), seq.value, { nets: ['bed[1]/on', 'bed[2]/on'] });
