@@ -1,5 +1,5 @@
 import { checkMargins, parseSequence, stepDesign, type StateHint } from '../lib/index.js';
-import { table } from '../lib/report/format.js';
+import { table, wrap } from '../lib/report/format.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
 
@@ -76,6 +76,7 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
   );
   out.push('  (state: 1 high, 0 low, a digit a watched net; margin: the smallest worst-case');
   out.push('  noise margin of the watched nets in their present states, volts, and whose)');
+  for (const [i, row] of r.rows.entries()) if (row.why !== undefined) out.push(...wrap(`Step ${i} has no solution: ${row.why}.`, 80));
   io.stdout(out.join('\n') + '\n');
   return r.ok ? EXIT.ok : EXIT.failed;
 }

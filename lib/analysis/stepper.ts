@@ -21,6 +21,8 @@ export interface StepRow {
   /** The smallest worst-case noise margin of the watched nets in the states they are in (from `check`), and which net. */
   margin: { net: string; volts: number } | undefined;
   converged: boolean;
+  /** Why a step has no solution: the solver's first error, or a latch left between its states. */
+  why?: string;
 }
 
 export interface StepResult {
@@ -102,7 +104,8 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
       const here = s.high ? m?.high : m?.low;
       if (here !== undefined && (!margin || here < margin.volts)) margin = { net: s.net, volts: here };
     }
-    rows.push({ action, states, expected: [], margin, converged });
+    const why = converged ? undefined : (op.diagnostics.find((x) => x.severity === 'error')?.message ?? 'a latch was left between its states');
+    rows.push({ action, states, expected: [], margin, converged, ...(why === undefined ? {} : { why }) });
   };
   /**
    * Closing a switch moves its net to the rail's voltage at once; the circuit, which is

@@ -96,6 +96,7 @@ stage a { load 47 k to hv; screen hv; input n series 470 k pulldown 390 k to neg
     const r = stepDesign(d, parseSequence('s', 'press UP; press DOWN; release UP; expect a=1').value, { nets: ['a'] });
     if (!('rows' in r)) throw new Error('no steps');
     expect(r.rows.map((row) => row.converged)).toEqual([true, true, false, true]);
+    expect(r.rows[2]!.why).toMatch(/short circuit/);
     expect(r.rows[3]!.expected.every((e) => e.ok)).toBe(true);
     expect(r.ok).toBe(false);
   });
