@@ -21,7 +21,7 @@ import { P, packSection } from '../../lib/models/tubeEquations.js';
 import { generateRegister } from '../../bench/generate.js';
 import { checkOf, design, memoryLoader, netsFiles } from '../helpers.js';
 import { loadDesign } from '../../lib/index.js';
-import { buttonLatchText, exhaustive, latchText, SMALL_DESIGNS } from './oracle.js';
+import { buttonLatchText, exhaustive, latchText, SMALL_DESIGNS, twoRailButtonsText } from './oracle.js';
 
 const NEW = findScenario('new')!;
 
@@ -150,13 +150,7 @@ describe('local solves against the full solve (fast path against full solve)', (
 
 describe('input nets switched to more than one rail', () => {
   it('take each rail\'s worst level with its own button closed, and never close both (a closed contact ties the net to its rail: Kirchhoff\'s voltage law)', () => {
-    const d = design(`rail hv = 100 V tol 5 %
-rail neg = -50 V tol 5 %
-defaults { tube = "6AU6" }
-button UP (n, hv)
-button DOWN (n, gnd)
-resistor RN (n, neg) 100 k
-stage a { load 47 k to hv; screen hv; input n series 470 k pulldown 390 k to neg }`);
+    const d = design(twoRailButtonsText(' tol 5 %'));
     const chain = chainOf(d);
     const n = chain.levels.get('n')!;
     expect(n.canHigh && n.canLow).toBe(true);

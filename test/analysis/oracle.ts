@@ -62,3 +62,12 @@ button CLR (clr, bp)
 resistor RC (clr, bias) 100 k
 stage q  { load ${load} to bp; ${screen} input nq series ${divider} pulldown ${divider} to bias; input clr series ${divider} pulldown ${divider} to bias }
 stage nq { load ${load} to bp; ${screen} input q  series ${divider} pulldown ${divider} to bias; input set series ${divider} pulldown ${divider} to bias }`;
+
+/** An input net with one button to the plate rail and one to ground (rails with tolerance `tol`), feeding one stage. */
+export const twoRailButtonsText = (tol: string) => `rail hv = 100 V${tol}
+rail neg = -50 V${tol}
+defaults { tube = "6AU6" }
+button UP (n, hv)
+button DOWN (n, gnd)
+resistor RN (n, neg) 100 k
+stage a { load 47 k to hv; screen hv; input n series 470 k pulldown 390 k to neg }`;

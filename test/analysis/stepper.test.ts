@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { loadDesign, parseSequence, stepDesign } from '../../lib/index.js';
 import { design, memoryLoader, netsFiles } from '../helpers.js';
 import { runCommand as run } from '../cliRun.js';
+import { twoRailButtonsText } from './oracle.js';
 
 const demo = (file: string) => {
   const files = netsFiles();
@@ -86,13 +87,7 @@ describe('stepping a design through its inputs', () => {
   }, 60_000);
 
   it('reports a step whose buttons short a net to two rails as unsolved, and carries on', () => {
-    const d = design(`rail hv = 100 V
-rail neg = -50 V
-defaults { tube = "6AU6" }
-button UP (n, hv)
-button DOWN (n, gnd)
-resistor RN (n, neg) 100 k
-stage a { load 47 k to hv; screen hv; input n series 470 k pulldown 390 k to neg }`);
+    const d = design(twoRailButtonsText(''));
     const r = stepDesign(d, parseSequence('s', 'press UP; press DOWN; release UP; expect a=1').value, { nets: ['a'] });
     if (!('rows' in r)) throw new Error('no steps');
     expect(r.rows.map((row) => row.converged)).toEqual([true, true, false, true]);
