@@ -1,4 +1,4 @@
-import type { Design, Part } from '../design/model.js';
+import { fixedVolts, type Design, type Part } from '../design/model.js';
 import type { StageGraph } from '../graph/stageGraph.js';
 import { stronglyConnected } from '../graph/tarjan.js';
 import { logicThreshold } from '../solve/operatingPoint.js';
@@ -21,8 +21,8 @@ export interface ChainNet {
   parameters: LocalParameter[];
   /** Position of each driver among the region's sections (the same in every region with the same key). */
   driverPositions: number[];
-  /** For input nets: the switches and buttons that tie the net to a rail. */
-  switches: string[];
+  /** For input nets: the switches and buttons that tie the net to a rail, grouped by rail. */
+  switches: SwitchGroup[];
   /** For each boundary net (in `region.boundaries` order): the drivers whose grids it feeds (none for the others). */
   feeds: number[][];
   /** The region's key interned to a number: nets of one kind share local problems and results. */
@@ -43,6 +43,13 @@ export interface NetLevels {
 
 function levelKeys(l: NetLevels): NonNullable<NetLevels['keys']> {
   return { high: `h${l.highNominal},${l.highWorst};`, low: `l${l.lowNominal},${l.lowWorst};`, any: `a${l.canLow ? l.lowNominal : l.highNominal};` };
+}
+
+/** The switches of an input net that tie it to one rail (or ground), and that rail's voltage. */
+export interface SwitchGroup {
+  rail: string;
+  volts: number;
+  switches: string[];
 }
 
 /** One local solve of a net in one logic state: which driver conducts (for a low plate or a high cathode), or none. */
@@ -133,9 +140,9 @@ export class LevelChain {
     const drivers = input ? [] : (index.driversOf.get(name) ?? []);
     const followers = drivers.filter((d) => index.follower.has(d)).length;
     const polarity: NetPolarity = input ? 'input' : followers === 0 ? 'inverting' : followers === drivers.length ? 'follower' : 'mixed';
-    const region = buildRegion(index, [name], [], input ? new Set(this.switchesAt(name)) : undefined);
-    const tubes = region.parts.filter((p) => p.type === 'tube').map((p) => p.name);
     const switches = input ? this.switchesAt(name) : [];
+    const region = buildRegion(index, [name], [], input ? new Set(switches.flatMap((g) => g.switches)) : undefined);
+    const tubes = region.parts.filter((p) => p.type === 'tube').map((p) => p.name);
     const feeders = drivers.map((d) => index.feedersOf.get(d) ?? []);
     return this.netWith({ name, polarity, drivers, feeders, driverPositions: drivers.map((d) => tubes.indexOf(d)), switches }, region);
   }
@@ -163,13 +170,20 @@ export class LevelChain {
     return kind;
   }
 
-  /** The switches and buttons that tie a net to a rail or ground. */
-  private switchesAt(net: string): string[] {
+  /** The switches and buttons that tie a net to a rail or ground, grouped by rail. */
+  private switchesAt(net: string): SwitchGroup[] {
     const { index } = this;
-    return (index.partsAt.get(net) ?? []).flatMap((i) => {
+    const groups: SwitchGroup[] = [];
+    for (const i of index.partsAt.get(net) ?? []) {
       const p = index.design.parts[i]!;
-      return p.type === 'switch' && ((p.a === net && index.fixed.has(p.b)) || (p.b === net && index.fixed.has(p.a))) ? [p.name] : [];
-    });
+      if (p.type !== 'switch') continue;
+      const rail = p.a === net ? p.b : p.a;
+      if (!index.fixed.has(rail)) continue;
+      const group = groups.find((g) => g.rail === rail);
+      if (group) group.switches.push(p.name);
+      else groups.push({ rail, volts: fixedVolts(this.design, rail)!, switches: [p.name] });
+    }
+    return groups;
   }
 
   /** The compiled local problem of a region (with some switches closed), shared by every region with the same key. */
@@ -319,21 +333,7 @@ export class LevelChain {
    * different rails are never closed together: that would short the rails.
    */
   inputConfigurations(net: ChainNet): (number | undefined)[] {
-    return net.switches.length === 0 ? [undefined] : [0, ...this.switchGroups(net).map((_, k) => k + 1)];
-  }
-
-  /** An input net's switches grouped by the rail (or ground) each ties it to. */
-  private switchGroups(net: ChainNet): { rail: string; switches: string[] }[] {
-    const groups: { rail: string; switches: string[] }[] = [];
-    for (const name of net.switches) {
-      const sw = this.design.parts.find((p) => p.type === 'switch' && p.name === name);
-      if (!sw || sw.type !== 'switch') continue;
-      const rail = sw.a === net.name ? sw.b : sw.a;
-      const group = groups.find((g) => g.rail === rail);
-      if (group) group.switches.push(name);
-      else groups.push({ rail, switches: [name] });
-    }
-    return groups;
+    return net.switches.length === 0 ? [undefined] : [0, ...net.switches.map((_, k) => k + 1)];
   }
 
   isHigh(net: string, volts: number): boolean {
@@ -371,7 +371,7 @@ export class LevelChain {
    */
   private inputHigh(net: ChainNet, on: number | undefined): boolean | undefined {
     if (on === undefined) return undefined;
-    const railHigh = this.switchGroups(net).map((g) => this.isHigh(net.name, g.rail === 'gnd' ? 0 : (this.design.rails.find((r) => r.name === g.rail)?.volts ?? 0)));
+    const railHigh = net.switches.map((g) => this.isHigh(net.name, g.volts));
     if (on > 0) return railHigh[on - 1];
     // All open: the other state of switches that all pull one way; by its level when they pull both ways.
     return railHigh.every((h) => h === railHigh[0]) ? !railHigh[0] : undefined;
@@ -475,7 +475,7 @@ export class LevelChain {
     const hit = this.results.get(cacheKey);
     if (hit) return hit;
     this.solves++;
-    const close = new Set(input && c.on !== undefined && c.on > 0 ? this.switchGroups(net)[c.on - 1]!.switches : []);
+    const close = new Set(input && c.on !== undefined && c.on > 0 ? net.switches[c.on - 1]!.switches : []);
     const { problem } = this.problem(net.region, close, net.kind);
     const bands = this.bandsOf(net, on);
     const sense: 'min' | 'max' = input ? 'min' : (c.on === undefined) === (net.polarity === 'inverting') ? 'min' : 'max';

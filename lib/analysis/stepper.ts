@@ -1,6 +1,5 @@
-import { isGeneratedName, type Design, type Part } from '../design/model.js';
+import { fixedVolts, isGeneratedName, type Design, type Part } from '../design/model.js';
 import { buildStageGraph } from '../graph/stageGraph.js';
-import { compileCircuit } from '../solve/circuit.js';
 import { logicThreshold, RESIDUAL_LIMIT, solveOperatingPoint, type OperatingPoint, type StateHint } from '../solve/operatingPoint.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import type { CheckResult } from './check.js';
@@ -35,9 +34,11 @@ export interface StepResult {
 /**
  * Steps a design through an input sequence quasi-statically: after each change of a
  * button, switch or drive the DC operating point is solved again, starting from the one
- * before (mapped net by net) with every latch pinned in the state it was in and then
- * released, so latches keep their state as the real circuit would while its inputs
- * change slowly, and flip where the new inputs leave the old state no existence. After each step, the logic state of every
+ * before (net by net) with nothing pinned, so latches keep their state as the real
+ * circuit would while its inputs change slowly, and flip where the new inputs leave the
+ * old state none (a closing contact's net is ramped to its rail first; see `ramp`).
+ * Should a solve land between a latch's states, every latch is pinned where it was and
+ * released instead. After each step, the logic state of every
  * watched net (its level against its logic threshold), the expectations of the sequence,
  * and the smallest worst-case margin of the watched nets in the states they are in.
  * Returns diagnostics for an action naming a part or net the design lacks.
@@ -56,8 +57,8 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
     const want = a.kind === 'set' ? 'drive' : 'switch';
     if (!p || p.type !== want) diagnostics.push(error('unknown-part', `the sequence's '${a.kind}' names '${a.part}', which is no ${want === 'drive' ? 'drive' : 'switch or button'} of the design`, a.span));
   }
-  const nets = options.nets ?? graph.nets.map((n) => n.name).filter((n) => !n.includes('.') && (graph.nets.find((x) => x.name === n)!.kind === 'stage' || !isGeneratedName(n)));
-  for (const n of nets) if (!logic.has(n)) diagnostics.push(error('unknown-net', `'${n}' is no logic net of the design`, undefined));
+  const nets = options.nets ?? graph.nets.filter((n) => !n.name.includes('.') && (n.kind === 'stage' || !isGeneratedName(n.name))).map((n) => n.name);
+  for (const n of nets) if (!logic.has(n)) diagnostics.push(error('unknown-net', `'${n}' (a watched net) is no logic net of the design`, undefined));
   if (diagnostics.length > 0) return { diagnostics };
 
   const closed = new Map(design.parts.flatMap((p) => (p.type === 'switch' ? [[p.name, p.closed && !p.momentary] as const] : [])));
@@ -73,13 +74,9 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
   let previous: Map<string, number> | undefined;
   const solveStep = (action: string) => {
     const d = designNow();
-    let start: Float64Array | undefined;
-    if (previous) {
-      const compiled = compileCircuit(d);
-      if (compiled.circuit) start = Float64Array.from(compiled.circuit.nodeNames, (name) => previous!.get(name) ?? 0);
-    }
+    const start = previous;
     // From the state before, nothing pinned, so every latch stays as it is where it can.
-    let op: OperatingPoint | { diagnostics: Diagnostic[] } = start ? solveOperatingPoint(d, { graph, start }) : solveOperatingPoint(d, { graph, hints: options.hints });
+    let op: OperatingPoint | { diagnostics: Diagnostic[] } = solveOperatingPoint(d, start ? { graph, start } : { graph, hints: options.hints });
     const undecided = (o: typeof op) => !('nodes' in o) || (o as OperatingPoint).residualAmps > RESIDUAL_LIMIT || o.diagnostics.some((x) => x.code === 'state-undecided');
     // A large change can carry Newton onto a latch's metastable point, which is no state:
     // then every latch is started where it was, pinned and released.
@@ -118,8 +115,7 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
     const sw = parts.get(name);
     // A contact already closed has nothing to ramp: pressing a held button changes nothing.
     if (!previous || sw?.type !== 'switch' || closed.get(name)) return;
-    const fixedVolts = (net: string) => (net === 'gnd' ? 0 : design.rails.find((r) => r.name === net)?.volts);
-    const [node, target] = fixedVolts(sw.b) !== undefined ? [sw.a, fixedVolts(sw.b)!] : [sw.b, fixedVolts(sw.a)];
+    const [node, target] = fixedVolts(design, sw.b) !== undefined ? [sw.a, fixedVolts(design, sw.b)] : [sw.b, fixedVolts(design, sw.a)];
     const from = previous.get(node);
     if (target === undefined || from === undefined) return;
     const held = new HeldNet(designNow(), node);

@@ -163,6 +163,11 @@ export const DIODE_DEFAULTS = { is: 1e-9, n: 1.8, rs: 10 };
 export const CAPACITOR_TOL = 0.1;
 
 /** True for names the tool made (block instances, stage parts and nodes). */
+/** The voltage of a fixed net (ground or a rail); undefined for any other net. */
+export function fixedVolts(design: Design, net: string): number | undefined {
+  return net === GROUND ? 0 : design.rails.find((r) => r.name === net)?.volts;
+}
+
 export function isGeneratedName(name: string): boolean {
   return name.includes('/') || name.includes('.');
 }

@@ -25,9 +25,11 @@ export interface SolveOptions extends CompileOptions {
   /**
    * A previous solution to start from instead of the devices-off guess. It already holds
    * the latches' states, so with a start and no hints nothing is pinned: each latch stays
-   * in the state it starts in, if that state still exists.
+   * in the state it starts in, if that state still exists. Either the unknowns of this
+   * system, or net voltages by name (from a solve of the design before a switch moved:
+   * nets it lacks start at 0 V).
    */
-  start?: Float64Array;
+  start?: Float64Array | ReadonlyMap<string, number>;
   /** The design's stage graph, when the caller has it already. */
   graph?: StageGraph;
   /** Newton iterations allowed per run (200); tests lower it to reach the non-convergence report. */
@@ -144,7 +146,9 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
   }
   const c = system.circuit;
   const graph = options.graph ?? buildStageGraph(design);
-  const warm = options.start !== undefined && options.start.length === c.n && options.hints === undefined;
+  const byName = options.start instanceof Map ? options.start : undefined;
+  const start = byName ? Float64Array.from(c.nodeNames, (name) => byName.get(name) ?? 0) : (options.start as Float64Array | undefined);
+  const warm = start !== undefined && start.length === c.n && options.hints === undefined;
   const hints = warm ? [] : collectHints(design, graph, options.hints ?? [], c, diagnostics);
   const rails = [0, ...design.rails.map((r) => r.volts)];
   const span = Math.max(...rails) - Math.min(...rails);
@@ -155,7 +159,7 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
     maxIterations: options.maxIterations ?? 200,
   };
   const x = new Float64Array(c.n);
-  if (options.start && options.start.length === c.n) x.set(options.start);
+  if (start && start.length === c.n) x.set(start);
   else system.devicesOff(x, base);
 
   let iterations = 0;
