@@ -43,6 +43,10 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
   }
   const sources = new Map([...loaded.sources, [source, text]]);
   const parsed = parseSequence(source, text);
+  // A single word with a dot or a slash that could not be read was meant as a file name.
+  if (source === '(--sequence)' && parsed.diagnostics.length > 0 && /^[^\s;]*[./][^\s;]*$/.test(text.trim())) {
+    return usageError(io, `cannot read the sequence file '${text.trim()}' (nor is it a sequence: actions are press, release, close, open, pulse, set, expect)`);
+  }
   if (parsed.diagnostics.length > 0) {
     report(parsed.diagnostics, sources, io);
     return EXIT.badInput;

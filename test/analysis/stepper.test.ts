@@ -110,6 +110,14 @@ describe('stepping a design through its inputs', () => {
     expect('diagnostics' in unknown && unknown.diagnostics.map((d) => d.code)).toEqual(['unknown-part', 'unknown-net']);
   });
 
+  it('says a sequence file it cannot read is missing, rather than reading its name as actions (exit 2)', async () => {
+    const r = await run(['step', 'nets/irrigation-sequencer.tube', '--sequence', 'docs/examples/no-such.seq']);
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/cannot read the sequence file 'docs\/examples\/no-such\.seq'/);
+    const text = await run(['step', 'nets/irrigation-sequencer.tube', '--sequence', 'wiggle STOP']);
+    expect(text.err).toMatch(/1:1/);
+  });
+
   it('exits 1 on the command line when an expectation does not hold, and prints the states', async () => {
     const r = await run(['step', 'nets/irrigation-sequencer.tube', '--sequence', 'pulse STOP; expect bed[1]/on=1', '--nets', 'bed[1]/on']);
     expect(r.code).toBe(1);

@@ -34,7 +34,7 @@ describe('switching a latch with its set input', () => {
     expect(r).toEqual({ switches: false, threshold: undefined, triggerMargin: undefined });
   });
 
-  it('still converges when the hinted state is torn away: the pinned stage only leads the way', () => {
+  it('still converges when the hinted state is torn away, where the other hint lands (Kirchhoff\'s current law, one solution)', () => {
     // At +120 V on the set input the latch has one state left. Pinning nq high cannot settle,
     // but the released circuit must, and must land where a solve hinted the other way lands:
     // Kirchhoff's current law has one solution here (a monostable circuit).
