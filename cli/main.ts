@@ -5,6 +5,7 @@ import { CHECK_HELP, CHECK_SUMMARY, runCheck, type CheckCliOptions } from './che
 import { FIT_HELP, FIT_SUMMARY, runFit, type FitCliOptions } from './fit.js';
 import { TUNE_HELP, TUNE_SUMMARY, runTune, type TuneCliOptions } from './tune.js';
 import { STEP_HELP, STEP_SUMMARY, runStep, type StepCliOptions } from './step.js';
+import { PULSE_HELP, PULSE_SUMMARY, runPulse, type PulseCliOptions } from './pulse.js';
 import { REPORT_HELP, REPORT_SUMMARY, runReport, type ReportCliOptions } from './report.js';
 import { SWEEP_HELP, SWEEP_SUMMARY, runSweep, type SweepCliOptions } from './sweep.js';
 import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
@@ -26,6 +27,9 @@ Examples:
   tubemargin fit readings.csv --kind koren-triode -o mytubes.tube
   tubemargin tune nets/nor-adder.tube --stage y2 --series E24
   tubemargin step nets/irrigation-sequencer.tube --sequence "pulse STOP; pulse bed[1]/START; expect bed[1]/on=1"
+  tubemargin pulse nets/crate-tally.tube --after "pulse RESET" --for 300us \
+      --input "LINE_A=clock(150V, 0V, period=100us, width=25%)" \
+      --input "LINE_B=clock(150V, 0V, period=100us, width=25%, delay=50%)" --fastest
   tubemargin tubes                               the tube library
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
@@ -148,6 +152,25 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--json', 'print the steps as tubemargin.step/1 JSON')
     .action((file: string, opts: StepCliOptions) => {
       code = runStep(file, { ...program.opts(), ...opts }, io);
+    });
+
+  program
+    .command('pulse')
+    .summary(PULSE_SUMMARY)
+    .description(PULSE_SUMMARY + '\n' + PULSE_HELP)
+    .argument('<file>', 'design file (.tube text or .json)')
+    .option('--input <DRIVE=WAVEFORM>', "a drive's waveform; repeat for more inputs", collect, [])
+    .option('--for <TIME>', 'how long to simulate: 300us, 2ms')
+    .option('--nets <A,B,…>', 'the nets to watch (default: every logic net)')
+    .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect, [])
+    .option('--after <SEQUENCE>', 'step through this sequence first and start from where it leaves the design')
+    .option('--stray <FARADS>', 'stray capacitance from every net to ground (default 10pF)')
+    .option('--expect <NET=1,…>', 'states the watched nets must have at the end (exit 1 when not)')
+    .option('--fastest', 'search for the fastest clock that still counts in worst case, and the stage that limits it')
+    .option('--csv <FILE>', 'write the waveforms of the watched nets and inputs to FILE')
+    .option('--json', 'print the run as tubemargin.pulse/1 JSON, waveforms included')
+    .action((file: string, opts: PulseCliOptions) => {
+      code = runPulse(file, { ...program.opts(), ...opts }, io);
     });
 
   program

@@ -73,4 +73,9 @@ export { E_SERIES, preferredValues, type SeriesName } from './design/preferredVa
 export { tuneStage, type TuneCandidate, type TuneOptions, type TuneResult } from './analysis/tune.js';
 export { DERATING, ratingsOf, type HeaterBudget, type Ratings, type ResistorRating, type SectionRating } from './analysis/ratings.js';
 export { parseSequence, type SequenceAction } from './analysis/sequence.js';
-export { stepDesign, type StepResult, type StepRow } from './analysis/stepper.js';
+export { stepDesign, watchedNets, type StepResult, type StepRow } from './analysis/stepper.js';
+export { parseQuantity, parseWaveform, WAVEFORM_FORMS, type Waveform } from './analysis/waveform.js';
+export { simulate, interelectrodeOf, type TransientOptions, type TransientResult } from './solve/transient.js';
+export { stageTimings, statesAt, type StageTiming } from './analysis/timing.js';
+export { pulseDesign, type PulseOptions, type PulseOutcome, type PulseRun } from './analysis/pulseRun.js';
+export { clockLimit, atCorner, stageTime, TIMING_CORNERS, type ClockFailure, type ClockLimitOptions, type ClockLimitResult, type TimingCorner } from './analysis/clockLimit.js';

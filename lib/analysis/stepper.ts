@@ -1,5 +1,5 @@
 import { fixedVolts, isGeneratedName, type Design, type Part } from '../design/model.js';
-import { buildStageGraph } from '../graph/stageGraph.js';
+import { buildStageGraph, type StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold, RESIDUAL_LIMIT, solveOperatingPoint, type OperatingPoint, type StateHint } from '../solve/operatingPoint.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import type { CheckResult } from './check.js';
@@ -8,6 +8,11 @@ import type { SequenceAction } from './sequence.js';
 
 /** Steps in which a closing contact's net is moved to its rail. */
 const RAMP_STEPS = 16;
+
+/** The nets a state table shows unless told otherwise: every logic net but a stage's internal ones, and inputs the builder named. */
+export function watchedNets(graph: StageGraph): string[] {
+  return graph.nets.filter((n) => !n.name.includes('.') && (n.kind === 'stage' || !isGeneratedName(n.name))).map((n) => n.name);
+}
 
 /** The state after one step. */
 export interface StepRow {
@@ -29,6 +34,8 @@ export interface StepResult {
   rows: StepRow[];
   /** Every step converged and every expectation held. */
   ok: boolean;
+  /** Every net's voltage after the last step that solved: a state to start a simulation in time from. */
+  final: Map<string, number> | undefined;
 }
 
 /**
@@ -57,7 +64,7 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
     const want = a.kind === 'set' ? 'drive' : 'switch';
     if (!p || p.type !== want) diagnostics.push(error('unknown-part', `the sequence's '${a.kind}' names '${a.part}', which is no ${want === 'drive' ? 'drive' : 'switch or button'} of the design`, a.span));
   }
-  const nets = options.nets ?? graph.nets.filter((n) => !n.name.includes('.') && (n.kind === 'stage' || !isGeneratedName(n.name))).map((n) => n.name);
+  const nets = options.nets ?? watchedNets(graph);
   for (const n of nets) if (!logic.has(n)) diagnostics.push(error('unknown-net', `'${n}' (a watched net) is no logic net of the design`, undefined));
   if (diagnostics.length > 0) return { diagnostics };
 
@@ -188,5 +195,5 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
         solveStep(`${a.kind} ${a.part}`);
     }
   }
-  return { nets, rows, ok: rows.every((r) => r.converged && r.expected.every((e) => e.ok)) };
+  return { nets, rows, ok: rows.every((r) => r.converged && r.expected.every((e) => e.ok)), final: previous };
 }

@@ -134,7 +134,7 @@ class Expander {
 
   private applyDefaults(fields: Assignment[], tube: TypeRef | undefined): void {
     if (tube) this.defaultTube = tube;
-    const known = ['tolerance', 'rating', 'margin', 'tube'];
+    const known = ['tolerance', 'rating', 'margin', 'stray', 'tube'];
     for (const f of fields) {
       switch (f.name.text) {
         case 'tolerance': {
@@ -150,6 +150,11 @@ class Expander {
         case 'margin': {
           const v = evaluateAs(f.value, this.globals, { what: 'the required noise margin', dim: VOLTS, sign: 'positive' }, this.diagnostics);
           if (v !== undefined) this.settings.requiredMargin = v;
+          break;
+        }
+        case 'stray': {
+          const v = evaluateAs(f.value, this.globals, { what: 'the stray capacitance of a net', dim: FARADS, sign: 'non-negative' }, this.diagnostics);
+          if (v !== undefined) this.settings.strayFarads = v;
           break;
         }
         default:

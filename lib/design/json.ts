@@ -18,7 +18,7 @@ export const designJsonSchema = object({
   schema: literal(DESIGN_SCHEMA),
   title: optional(str()),
   requiredMargin: optional(num()),
-  defaults: optional(object({ tol: optional(num()), watts: optional(num()) })),
+  defaults: optional(object({ tol: optional(num()), watts: optional(num()), strayFarads: optional(num()) })),
   rails: optional(array(object({ name: str(), volts: num(), tol: optional(num()), sourceOhms: optional(num()) }))),
   models: optional(
     array(
@@ -87,7 +87,7 @@ export function designToJson(design: Design): DesignJson {
     schema: DESIGN_SCHEMA,
     title: design.title,
     requiredMargin: design.settings.requiredMargin,
-    defaults: { tol: design.settings.resistorTol, watts: design.settings.resistorWatts },
+    defaults: { tol: design.settings.resistorTol, watts: design.settings.resistorWatts, strayFarads: design.settings.strayFarads },
     rails,
     models,
     parts,
@@ -130,6 +130,7 @@ class JsonReader {
     const settings = { ...DEFAULT_SETTINGS };
     if (json.requiredMargin !== undefined) settings.requiredMargin = checkSign(json.requiredMargin, spanOf(json, 'requiredMargin'), { what: 'requiredMargin', sign: 'positive' }, d) ?? settings.requiredMargin;
     if (json.defaults?.tol !== undefined) settings.resistorTol = checkTolerance(json.defaults.tol, spanOf(json.defaults, 'tol'), 'defaults.tol', d) ?? settings.resistorTol;
+    if (json.defaults?.strayFarads !== undefined) settings.strayFarads = checkSign(json.defaults.strayFarads, spanOf(json.defaults, 'strayFarads'), { what: 'defaults.strayFarads', sign: 'non-negative' }, d) ?? settings.strayFarads;
     if (json.defaults?.watts !== undefined) settings.resistorWatts = checkSign(json.defaults.watts, spanOf(json.defaults, 'watts'), { what: 'defaults.watts', sign: 'positive' }, d) ?? settings.resistorWatts;
 
     const rails: Rail[] = [];

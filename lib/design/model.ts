@@ -143,6 +143,8 @@ export interface DesignSettings {
   resistorTol: number;
   /** Power rating given to resistors that state none (watts). */
   resistorWatts: number;
+  /** Stray capacitance from every net to ground, for a simulation in time (farads). */
+  strayFarads: number;
 }
 
 export interface Design {
@@ -153,8 +155,11 @@ export interface Design {
   parts: Part[];
 }
 
-/** Defaults of a design that states none (common practice, no source: 5 % carbon resistors of ½ W). */
-export const DEFAULT_SETTINGS: DesignSettings = { requiredMargin: 1, resistorTol: 0.05, resistorWatts: 0.5 };
+/**
+ * Defaults of a design that states none (common practice, no source: 5 % carbon resistors
+ * of ½ W; 10 pF from each net to ground for point-to-point wiring and a socket).
+ */
+export const DEFAULT_SETTINGS: DesignSettings = { requiredMargin: 1, resistorTol: 0.05, resistorWatts: 0.5, strayFarads: 10e-12 };
 
 /** Diodes that state no parameters: a small-signal silicon diode of the usual order (common practice, no source). */
 export const DIODE_DEFAULTS = { is: 1e-9, n: 1.8, rs: 10 };

@@ -49,6 +49,18 @@ export interface Circuit {
   dNVt: Float64Array;
   diodePart: Int32Array;
 
+  /**
+   * Capacitors, compiled only for a simulation in time (empty otherwise): terminals and
+   * farads, and a name for each (the part, `V1 Cgp` for a section's grid–plate
+   * capacitance, `q stray` for a net's stray capacitance to ground).
+   */
+  cA: Int32Array;
+  cB: Int32Array;
+  cF: Float64Array;
+  capacitorNames: string[];
+  /** Fixed terminal index of each drive, by part name: a simulation in time rewrites its voltage. */
+  driveFixed: Map<string, number>;
+
   /** Index in `design.parts` of every part, by name. */
   partIndex: Map<string, number>;
   design: Design;
@@ -62,6 +74,12 @@ export interface CompileOptions {
   close?: ReadonlySet<string>;
   /** Per-section variation by section name; nominal where absent. */
   variation?: ReadonlyMap<string, SectionVariation>;
+  /**
+   * Compile the capacitors too, for a simulation in time: the design's capacitors, each
+   * section's interelectrode capacitances (`interelectrode`, by section name) and
+   * `strayFarads` from every net to ground.
+   */
+  dynamic?: { strayFarads: number; interelectrode: (section: string) => { gk: number; gp: number; pk: number } };
 }
 
 /** Nets joined by closed switches, and the fixed voltages (ground, stiff rails and drives) they carry. */
@@ -72,7 +90,9 @@ interface JoinedNets {
   /** Fixed voltage index by the root net of its group. */
   fixedOf: Map<string, number>;
   /** Rails and drives with a source resistance: fed through a conductance, not fixed. */
-  sources: { net: string; volts: number; ohms: number }[];
+  sources: { net: string; volts: number; ohms: number; drive?: string }[];
+  /** Fixed voltage index of each stiff drive, by part name. */
+  driveFixed: Map<string, number>;
   /** A short circuit: a closed switch or a shared net joining fixed voltages that differ. */
   diagnostics: Diagnostic[];
 }
@@ -125,13 +145,17 @@ export function joinNets(design: Design, close: ReadonlySet<string> = new Set<st
     if (r.sourceOhms > 0) sources.push({ net: r.name, volts: r.volts, ohms: r.sourceOhms });
     else fix(r.name, r.volts, `rail '${r.name}'`, r.span);
   }
+  const driveFixed = new Map<string, number>();
   for (const p of design.parts) {
     if (p.type === 'drive') {
-      if (p.sourceOhms > 0) sources.push({ net: p.node, volts: p.volts, ohms: p.sourceOhms });
-      else fix(p.node, p.volts, `drive '${p.name}'`, p.span);
+      if (p.sourceOhms > 0) sources.push({ net: p.node, volts: p.volts, ohms: p.sourceOhms, drive: p.name });
+      else {
+        const f = fix(p.node, p.volts, `drive '${p.name}'`, p.span);
+        if (f !== undefined) driveFixed.set(p.name, f);
+      }
     }
   }
-  return { find, fixedNames, fixedValues, fixedOf, sources, diagnostics };
+  return { find, fixedNames, fixedValues, fixedOf, sources, driveFixed, diagnostics };
 }
 
 /**
@@ -173,8 +197,10 @@ export function compileCircuit(design: Design, options: CompileOptions = {}): { 
     gS.push(siemens);
     gPart.push(part);
   };
+  const driveFixed = new Map(joined.driveFixed);
   for (const s of railSources) {
     const f = fixedNames.length;
+    if (s.drive !== undefined) driveFixed.set(s.drive, f);
     fixedNames.push(`${s.net}:source`);
     fixedValues.push(s.volts);
     conductance(terminal(s.net), -1 - f, 1 / s.ohms, -1);
@@ -225,6 +251,29 @@ export function compileCircuit(design: Design, options: CompileOptions = {}): { 
     for (const net of nets) terminalOf.set(net, terminal(net));
   }
 
+  const caps: { a: number; b: number; farads: number; name: string }[] = [];
+  const dynamic = options.dynamic;
+  if (dynamic) {
+    const capacitor = (a: number, b: number, farads: number, name: string) => {
+      // Across one node, or between two fixed voltages, a capacitor carries nothing that matters.
+      if (a !== b && (a >= 0 || b >= 0) && farads > 0) caps.push({ a, b, farads, name });
+    };
+    for (const p of design.parts) if (p.type === 'capacitor') capacitor(terminal(p.a), terminal(p.b), p.farads, p.name);
+    for (const t of tubes) {
+      const name = design.parts[t.part]!.name;
+      const c = dynamic.interelectrode(name);
+      capacitor(t.g, t.k, c.gk, `${name} Cgk`);
+      capacitor(t.g, t.a, c.gp, `${name} Cgp`);
+      capacitor(t.a, t.k, c.pk, `${name} Cpk`);
+    }
+    const strayDone = new Set<number>();
+    for (const t of terminalOf.values()) {
+      if (t < 0 || strayDone.has(t)) continue;
+      strayDone.add(t);
+      capacitor(t, terminal(GROUND), dynamic.strayFarads, `${nodeNames[t]} stray`);
+    }
+  }
+
   const tubeParams = new Float64Array(tubes.length * P.size);
   tubes.forEach((t, i) => packSection(t.model, t.variation, tubeParams, i * P.size));
   const circuit: Circuit = {
@@ -250,6 +299,11 @@ export function compileCircuit(design: Design, options: CompileOptions = {}): { 
     dIs: Float64Array.from(diodes.map((d) => d.is)),
     dNVt: Float64Array.from(diodes.map((d) => d.nvt)),
     diodePart: Int32Array.from(diodes.map((d) => d.part)),
+    cA: Int32Array.from(caps.map((c) => c.a)),
+    cB: Int32Array.from(caps.map((c) => c.b)),
+    cF: Float64Array.from(caps.map((c) => c.farads)),
+    capacitorNames: caps.map((c) => c.name),
+    driveFixed,
     partIndex,
     design,
   };

@@ -22,6 +22,14 @@ export interface NewtonSettings {
   /** Pins: conductance of each pinned node to its target (0 where not pinned). */
   pinSiemens?: Float64Array;
   pinVolts?: Float64Array;
+  /**
+   * A step in time: each capacitor k of the circuit replaced by its companion, a
+   * conductance `companionSiemens[k]` in parallel with a current `companionAmps[k]` from
+   * its terminal a to b (the integration rule's history). Absent in a DC solve, where
+   * capacitors are open.
+   */
+  companionSiemens?: Float64Array;
+  companionAmps?: Float64Array;
 }
 
 export interface NewtonResult {
@@ -79,6 +87,7 @@ export class DcSystem {
   private readonly gSlots: Int32Array;
   private readonly tSlots: Int32Array;
   private readonly dSlots: Int32Array;
+  private readonly cSlots: Int32Array;
   private readonly diagSlots: Int32Array;
   /** Newton iterations done since construction, for benchmarks. */
   iterationCount = 0;
@@ -112,6 +121,10 @@ export class DcSystem {
       const ts = [c.dA[d]!, c.dK[d]!];
       for (const a of ts) for (const b of ts) add(a, b);
     }
+    for (let k = 0; k < c.cA.length; k++) {
+      add(c.cA[k]!, c.cB[k]!);
+      add(c.cB[k]!, c.cA[k]!);
+    }
     this.lu = factory(c.n, rows, cols);
     const slot = (a: number, b: number) => (a >= 0 && b >= 0 ? this.lu.position(a, b) : -1);
     this.gSlots = new Int32Array(c.gA.length * 4);
@@ -130,6 +143,12 @@ export class DcSystem {
       const a = c.dA[d]!;
       const k = c.dK[d]!;
       this.dSlots.set([slot(a, a), slot(a, k), slot(k, a), slot(k, k)], d * 4);
+    }
+    this.cSlots = new Int32Array(c.cA.length * 4);
+    for (let k = 0; k < c.cA.length; k++) {
+      const a = c.cA[k]!;
+      const b = c.cB[k]!;
+      this.cSlots.set([slot(a, a), slot(a, b), slot(b, a), slot(b, b)], k * 4);
     }
     this.diagSlots = new Int32Array(c.n);
     for (let i = 0; i < c.n; i++) this.diagSlots[i] = slot(i, i);
@@ -170,6 +189,15 @@ export class DcSystem {
       const b = gB[e]!;
       const g = gS[e]!;
       stampBranch(f, v, gSlots, e * 4, a, b, g * (volt(a) - volt(b)), g);
+    }
+    const cg = s.companionSiemens;
+    if (cg) {
+      const ci = s.companionAmps!;
+      for (let k = 0; k < cg.length; k++) {
+        const a = c.cA[k]!;
+        const b = c.cB[k]!;
+        stampBranch(f, v, this.cSlots, k * 4, a, b, cg[k]! * (volt(a) - volt(b)) + ci[k]!, cg[k]!);
+      }
     }
     if (!withDevices) return;
     const r = this.eval;

@@ -65,6 +65,7 @@ export const DIAGNOSTIC_CODES = [
   'tune-stage',
   // input sequences (step)
   'sequence-syntax',
+  'no-clock',
   // JSON designs
   'json-syntax',
   'json-schema',

@@ -46,11 +46,11 @@ resistor RB (b, bias) 100 k`);
     expect(part(d.parts, 'q.screen')).toMatchObject({ a: 'q.sg', b: 'bp', ohms: 4700 });
   });
 
-  it('applies the design defaults: tolerance, rating, margin and tube', () => {
+  it('applies the design defaults: tolerance, rating, margin, stray capacitance and tube', () => {
     const d = design(`${HEADER}
-defaults { tolerance = 10 %, rating = 0.25 W, margin = 2 V, tube = LT }
+defaults { tolerance = 10 %, rating = 0.25 W, margin = 2 V, stray = 22 pF, tube = LT }
 stage q { load 33 k to bp; input q series 1 M pulldown 1 M to bias }`);
-    expect(d.settings).toEqual({ requiredMargin: 2, resistorTol: 0.1, resistorWatts: 0.25 });
+    expect(d.settings).toEqual({ requiredMargin: 2, resistorTol: 0.1, resistorWatts: 0.25, strayFarads: 22 * 1e-12 });
     expect(part(d.parts, 'q.load')).toMatchObject({ tol: 0.1, watts: 0.25 });
     expect((part(d.parts, 'q.v1') as TubeSection).model).toBe('LT');
   });

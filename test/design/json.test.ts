@@ -94,7 +94,7 @@ describe('the JSON design form tubemargin.design/1', () => {
       schema: DESIGN_SCHEMA,
       title: '',
       requiredMargin: 1,
-      defaults: { tol: 0.05, watts: 0.5 },
+      defaults: { tol: 0.05, watts: 0.5, strayFarads: 1e-11 },
       rails: [{ name: 'bp', volts: 24, tol: 0, sourceOhms: 0 }],
       models: [],
       parts: [

@@ -1,0 +1,251 @@
+import { stringify } from 'csv-stringify/sync';
+import {
+  clockLimit,
+  parseQuantity,
+  parseSequence,
+  parseWaveform,
+  pulseDesign,
+  stepDesign,
+  TIMING_CORNERS,
+  WAVEFORM_FORMS,
+  type ClockLimitResult,
+  type PulseRun,
+  type StateHint,
+  type Waveform,
+} from '../lib/index.js';
+import { FARADS, SECONDS } from '../lib/netlist/units.js';
+import { formatSI, table, wrap } from '../lib/report/format.js';
+import { safetyCautions } from '../lib/report/safety.js';
+import type { CliIo } from './io.js';
+import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
+
+export const PULSE_SUMMARY = 'simulate the design in time under input waveforms: states, delays, fastest clock';
+
+export const PULSE_HELP = `
+Drives inputs with waveforms and simulates the circuit in time: every capacitor of
+the design, each tube's grid-cathode, grid-plate (Miller) and plate-cathode
+capacitance from the library, and a stray capacitance on every net (--stray,
+default 10 pF), integrated by the trapezoidal rule with error-controlled steps.
+Prints the watched nets' states after each pulse and the latches each pulse
+flipped, and each stage's propagation delay and rise and fall times.
+--fastest then searches for the shortest clock period at which the states after
+every pulse still match, in the nominal, slow and weak corners, and names the
+stage that limits it. Waveforms (a drive's name, '=', then one of):
+  ${WAVEFORM_FORMS.join('\n  ')}
+--after runs a step sequence first (as 'tubemargin step' does), so the run
+starts from the state it leaves: --after "pulse RESET".
+Exit code 0 when the run finishes and every --expect holds, 1 when not, 2 for
+bad input.`;
+
+export interface PulseCliOptions extends GlobalOptions {
+  input?: string[];
+  for?: string;
+  nets?: string;
+  hint?: string[];
+  after?: string;
+  stray?: string;
+  expect?: string;
+  fastest?: boolean;
+  csv?: string;
+  json?: boolean;
+}
+
+/** The first line of every waveform CSV this command writes: an existing file that starts otherwise is never overwritten. */
+const CSV_FIRST_COLUMN = 'time_s';
+
+export function runPulse(file: string, options: PulseCliOptions, io: CliIo): number {
+  const inputs = new Map<string, Waveform>();
+  for (const given of options.input ?? []) {
+    const m = /^([^=\s]+)\s*=\s*(.+)$/.exec(given);
+    if (!m) return usageError(io, `--input takes DRIVE=WAVEFORM, not '${given}'`);
+    const w = parseWaveform(m[2]!);
+    if ('error' in w) return usageError(io, `--input ${m[1]}: ${w.error}`);
+    inputs.set(m[1]!, w.value);
+  }
+  if (options.for === undefined) return usageError(io, 'give the length of the run: --for 300us');
+  const stop = parseQuantity(options.for, SECONDS, '--for');
+  if ('error' in stop || !(stop.value > 0)) return usageError(io, 'error' in stop ? stop.error : '--for must be above zero');
+  const stray = options.stray === undefined ? undefined : parseQuantity(options.stray, FARADS, '--stray');
+  if (stray && ('error' in stray || !(stray.value >= 0))) return usageError(io, 'error' in stray ? stray.error : '--stray cannot be negative');
+  const hints: StateHint[] = [];
+  for (const h of options.hint ?? []) {
+    const m = /^([^=\s]+)=([01])$/.exec(h);
+    if (!m) return usageError(io, `--hint takes NET=1 or NET=0, not '${h}'`);
+    hints.push({ net: m[1]!, high: m[2] === '1' });
+  }
+  const expected: { net: string; high: boolean }[] = [];
+  for (const e of (options.expect ?? '').split(/[\s,]+/).filter(Boolean)) {
+    const m = /^([^=\s]+)=([01])$/.exec(e);
+    if (!m) return usageError(io, `--expect takes NET=1,NET=0,…, not '${e}'`);
+    expected.push({ net: m[1]!, high: m[2] === '1' });
+  }
+  if (options.fastest && ![...inputs.values()].some((w) => w.period !== undefined)) return usageError(io, '--fastest needs a clock(...) input whose period it can shorten');
+  const loaded = loadForCommand(file, io, options);
+  if (!loaded) return EXIT.badInput;
+  const { design } = loaded;
+
+  let start: Map<string, number> | undefined;
+  if (options.after !== undefined) {
+    const parsed = parseSequence('(--after)', options.after);
+    if (parsed.diagnostics.length > 0) {
+      report(parsed.diagnostics, new Map([...loaded.sources, ['(--after)', options.after]]), io);
+      return EXIT.badInput;
+    }
+    const stepped = stepDesign(design, parsed.value, { hints });
+    if (!('rows' in stepped)) {
+      report(stepped.diagnostics, loaded.sources, io);
+      return EXIT.badInput;
+    }
+    if (!stepped.ok || !stepped.final) {
+      io.stderr(`the --after sequence did not ${stepped.final ? 'meet its expectations' : 'solve'}: run it with 'tubemargin step' to see where\n`);
+      return EXIT.failed;
+    }
+    start = stepped.final;
+  }
+  const nets = options.nets?.split(',').map((n) => n.trim()).filter(Boolean);
+  const settings = { inputs, stop: stop.value, hints, start, nets, strayFarads: stray && 'value' in stray ? stray.value : undefined };
+  const r = pulseDesign(design, settings);
+  if (!('run' in r)) {
+    // A drive or net the options name that the design lacks is a usage error, not the design's.
+    const ofOptions = r.diagnostics.filter((d) => d.code === 'unknown-part' || d.code === 'unknown-net');
+    if (ofOptions.length > 0) {
+      for (const d of ofOptions) usageError(io, d.message);
+      return EXIT.badInput;
+    }
+    report(r.diagnostics, loaded.sources, io);
+    return EXIT.failed;
+  }
+  for (const e of expected) if (!r.nets.includes(e.net) && !r.latches.flat().includes(e.net)) return usageError(io, `--expect names '${e.net}', which is no watched logic net`);
+  const finalStates = r.statesAt(
+    expected.map((e) => e.net),
+    r.run.times[r.run.times.length - 1]!,
+  );
+  const misses = expected.filter((e, i) => finalStates[i] !== e.high);
+
+  let limit: ClockLimitResult | undefined;
+  if (options.fastest) {
+    const found = clockLimit(design, { ...settings, nets: r.nets, onRun: io.stderrIsTTY ? (p, c, ok) => io.stderr(`  ${formatSI(p, 's')} ${c}: ${ok ? 'counts' : 'fails'}\n`) : undefined });
+    if (!('runs' in found)) {
+      report(found.diagnostics, loaded.sources, io);
+      return EXIT.failed;
+    }
+    limit = found;
+  }
+
+  if (options.csv !== undefined) {
+    const code = writeCsv(options.csv, r, [...inputs.keys()].flatMap((name) => design.parts.filter((p) => p.type === 'drive' && p.name === name).map((p) => (p.type === 'drive' ? p.node : ''))), io);
+    if (code !== EXIT.ok) return code;
+  }
+  const ok = r.run.ok && misses.length === 0 && (!limit || limit.passing !== undefined);
+  if (options.json) {
+    io.stdout(JSON.stringify(pulseJson(r, inputs, stop.value, misses, limit), null, 1) + '\n');
+    return ok ? EXIT.ok : EXIT.failed;
+  }
+  io.stdout(pulseText(file, design.title, r, inputs, stop.value, misses, limit).join('\n') + '\n');
+  for (const c of safetyCautions(design)) io.stdout(wrap(c, 80, '').join('\n') + '\n');
+  return ok ? EXIT.ok : EXIT.failed;
+}
+
+/** Writes time and every watched net's voltage (and the driven inputs') as CSV; refuses to overwrite a file that is not such a CSV. */
+function writeCsv(path: string, r: PulseRun, inputNets: string[], io: CliIo): number {
+  if (!io.writeFile) return usageError(io, 'this run cannot write files');
+  let existing: string | undefined;
+  try {
+    existing = io.readFile(path);
+  } catch {
+    existing = undefined;
+  }
+  if (existing !== undefined && !existing.startsWith(`${CSV_FIRST_COLUMN},`)) return usageError(io, `${path} exists and is not a tubemargin waveform CSV: choose another name, or move it away`);
+  const nets = [...new Set([...inputNets, ...r.nets])];
+  const traces = nets.map((n) => r.run.volts(n)!);
+  const rows = r.run.times.map((t, i) => [t.toPrecision(9), ...traces.map((v) => v[i]!.toFixed(4))]);
+  try {
+    io.writeFile(path, stringify([[CSV_FIRST_COLUMN, ...nets], ...rows]));
+  } catch (e) {
+    return usageError(io, `cannot write ${path}: ${(e as Error).message}`);
+  }
+  return EXIT.ok;
+}
+
+const bits = (states: boolean[]) => states.map((s) => (s ? '1' : '0')).join('');
+const si = (x: number | undefined, unit: string) => (x === undefined ? '—' : formatSI(x, unit));
+
+function pulseJson(r: PulseRun, inputs: Map<string, Waveform>, stop: number, misses: { net: string; high: boolean }[], limit: ClockLimitResult | undefined) {
+  return {
+    schema: 'tubemargin.pulse/1',
+    seconds: stop,
+    finished: r.run.ok,
+    inputs: Object.fromEntries([...inputs].map(([k, w]) => [k, w.text])),
+    steps: { accepted: r.run.accepted, rejected: r.run.rejected, newtonIterations: r.run.newtonIterations },
+    nets: r.nets,
+    pulses: r.pulses.map((p) => ({ input: p.input, at: p.at, judgedAt: p.judgedAt, state: bits(p.states), flipped: p.flipped })),
+    stages: r.stages,
+    expectations: { met: misses.length === 0, missed: misses },
+    ...(limit ? { fastest: limitJson(limit) } : {}),
+    waves: { time: r.run.times, volts: Object.fromEntries(r.nets.map((n) => [n, Array.from(r.run.volts(n)!, (v) => Math.round(v * 1e4) / 1e4)])) },
+  };
+}
+
+function limitJson(l: ClockLimitResult) {
+  return { givenPeriod: l.givenPeriod, passingPeriod: l.passing ?? null, failing: l.failing ?? null, limitingStage: l.limiting ?? null, slowest: l.slowest, runs: l.runs };
+}
+
+function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string, Waveform>, stop: number, misses: { net: string; high: boolean }[], limit: ClockLimitResult | undefined): string[] {
+  const out = [`${title || '(untitled design)'} — ${file}`];
+  out.push(`Simulated ${si(stop, 's')} in ${r.run.accepted} steps (${r.run.rejected} taken again); trapezoidal rule, steps by truncation error.`);
+  for (const [name, w] of inputs) out.push(`  ${name} = ${w.text}`);
+  if (!r.run.ok) out.push(...wrap(`The run stopped early: ${r.run.diagnostics[0]?.message ?? 'no reason given'}.`, 80, ''));
+  out.push('Watched nets, in the order of the state column:');
+  r.nets.forEach((n, i) => out.push(`  ${String(i + 1).padStart(2)}. ${n}`));
+  out.push('');
+  out.push(
+    ...table(
+      ['  pulse', 'input', 'at', 'state after', 'flipped'],
+      r.pulses.map((p, i) => [`  ${i + 1}`, p.input, si(p.at, 's'), bits(p.states), p.flipped.length === 0 ? 'none' : p.flipped]),
+      [7, 12, 10, 24],
+    ),
+  );
+  out.push('  (state after: each watched net just before the next pulse, 1 high, 0 low)');
+  out.push('');
+  const stages = [...r.stages].sort((a, b) => (b.delay?.seconds ?? 0) - (a.delay?.seconds ?? 0)).slice(0, 10);
+  if (stages.length > 0) {
+    out.push(`Stages that switched, longest delay first (${Math.min(10, r.stages.length)} of ${r.stages.length}); rise and fall 10–90 %:`);
+    out.push(...table(['  stage', 'delay', 'from', 'rise', 'fall', 'switched'], stages.map((s) => [`  ${s.stage}`, si(s.delay?.seconds, 's'), s.delay?.from ?? '', si(s.rise, 's'), si(s.fall, 's'), `${s.transitions}×`]), [16, 10, 12, 10, 10]));
+    out.push('');
+  }
+  for (const m of misses) {
+    // Name the latch and what the pulses did to it: the stage that failed to switch.
+    const latch = r.latches.find((l) => l.includes(m.net));
+    const name = latch?.join('/');
+    const flips = name ? r.pulses.filter((p) => p.flipped.includes(name)).length : 0;
+    const said = latch ? `: latch ${name} flipped on ${flips === 0 ? 'no pulse' : `${flips} of ${r.pulses.length} pulses`}` : '';
+    out.push(...wrap(`Expected ${m.net}=${m.high ? 1 : 0} at the end, NOT met${said}.`, 80, ''));
+  }
+  if (limit) out.push(...limitText(limit));
+  return out;
+}
+
+function limitText(l: ClockLimitResult): string[] {
+  const out: string[] = [];
+  const corner = (name: string) => TIMING_CORNERS.find((c) => c.name === name)!;
+  const f = l.failing;
+  const what = f
+    ? f.pulse === 0
+      ? `the run did not finish (${f.why})`
+      : `after pulse ${f.pulse}, ${f.wrong
+          .slice(0, 4)
+          .map((w) => `${w.net} should be ${w.expected ? 1 : 0}`)
+          .join(', ')}${f.wrong.length > 4 ? ` and ${f.wrong.length - 4} more nets are wrong` : ''}`
+    : '';
+  if (l.passing === undefined) {
+    out.push(...wrap(`Fastest clock: FAILS at the given period, ${si(l.givenPeriod, 's')}, in the ${f!.corner} corner (${corner(f!.corner).description}): ${what}.`, 80, ''));
+    return out;
+  }
+  const rate = (p: number) => si(1 / p, 'Hz');
+  out.push(...wrap(`Fastest clock in worst case: a period of ${si(l.passing, 's')} (${rate(l.passing)}) counts as the given clock does in every corner (${TIMING_CORNERS.map((c) => c.name).join(', ')}).`, 80, ''));
+  if (f) out.push(...wrap(`At ${si(f.period, 's')} it fails in the ${f.corner} corner (${corner(f.corner).description}): ${what}.`, 80, ''));
+  else out.push(`It still counted at ${si(l.passing, 's')}, the shortest period tried.`);
+  if (l.limiting) out.push(...wrap(`Limiting stage: ${l.limiting.stage} (delay ${si(l.limiting.delay?.seconds, 's')} from ${l.limiting.delay?.from ?? '—'}, rise ${si(l.limiting.rise, 's')}, fall ${si(l.limiting.fall, 's')} at ${si(l.passing, 's')}).`, 80, ''));
+  out.push(`${l.runs} simulations.`);
+  return out;
+}

@@ -1,0 +1,198 @@
+import { describe, expect, it } from 'vitest';
+import { buildStageGraph, clockLimit, loadDesign, parseSequence, parseWaveform, pulseDesign, stepDesign, type Waveform } from '../../lib/index.js';
+import { design, memoryLoader, netsFiles } from '../helpers.js';
+import { runCommand as run } from '../cliRun.js';
+
+const wave = (text: string): Waveform => {
+  const w = parseWaveform(text);
+  if ('error' in w) throw new Error(w.error);
+  return w.value;
+};
+
+const crateTally = () => {
+  const files = netsFiles();
+  return loadDesign('nets/crate-tally.tube', files['nets/crate-tally.tube']!, { loader: memoryLoader(files) }).design!;
+};
+
+/** The crate tally after its RESET button, by stepping: the state a run in time starts from. */
+const afterReset = (d: ReturnType<typeof crateTally>) => {
+  const stepped = stepDesign(d, parseSequence('s', 'pulse RESET').value);
+  if (!('final' in stepped) || !stepped.final) throw new Error('reset did not solve');
+  return stepped.final;
+};
+
+const twoPhase = (period: string) =>
+  new Map([
+    ['LINE_A', wave(`clock(150V, 0V, period=${period}, width=25%)`)],
+    ['LINE_B', wave(`clock(150V, 0V, period=${period}, width=25%, delay=50%)`)],
+  ]);
+
+/**
+ * A toggle binary (a test design of our own): two cross-coupled triodes with speed-up
+ * capacitors, a negative trigger from CLK through capacitor CT onto a steering node held at
+ * the supply, and a diode from each plate to it, so the trigger pulls down the high plate.
+ */
+const binary = (ct: string) => `type T like "12AU7" { spread = 30 % }
+rail hv = 150 V tol 5 %
+rail neg = -75 V tol 5 %
+resistor LA (hv, a) 47 k
+resistor LB (hv, b) 47 k
+section VA T (a, ga, gnd)
+section VB T (b, gb, gnd)
+resistor SA (b, ga) 470 k
+resistor PA (ga, neg) 390 k
+resistor SB (a, gb) 470 k
+resistor PB (gb, neg) 390 k
+capacitor KA (b, ga) 47 pF
+capacitor KB (a, gb) 47 pF
+drive CLK (t) 150 V source 1 k
+capacitor CT (t, s) ${ct}
+resistor RS (s, hv) 100 k
+diode DA (a, s)
+diode DB (b, s)`;
+
+describe('waveforms', () => {
+  it('a clock idles, ramps over its edge, holds for its width and repeats every period', () => {
+    const w = wave('clock(150V, 0V, period=100us, width=25%, delay=10us, edge=1us)');
+    expect(w.at(5e-6)).toBe(150);
+    expect(w.at(10.5e-6)).toBeCloseTo(75, 9); // halfway down the edge
+    expect(w.at(20e-6)).toBe(0);
+    expect(w.at(35.5e-6)).toBeCloseTo(75, 9); // halfway back up
+    expect(w.at(50e-6)).toBe(150);
+    expect(w.at(120e-6)).toBe(0); // the next period
+    const near = (got: number[], want: number[]) => {
+      expect(got).toHaveLength(want.length);
+      got.forEach((g, i) => expect(g).toBeCloseTo(want[i]!, 12));
+    };
+    near(w.pulseStarts(250e-6), [10e-6, 110e-6, 210e-6]);
+    near(w.corners(100e-6), [10e-6, 11e-6, 35e-6, 36e-6]);
+    // At a tenth of the period the width (25 %) follows it; the delay and edge, in seconds, stay.
+    const fast = w.withPeriod!(20e-6);
+    near(fast.corners(20e-6), [10e-6, 11e-6, 15e-6, 16e-6]);
+    // Where seconds no longer fit, the whole shape follows the period.
+    const faster = w.withPeriod!(2e-6);
+    near(faster.corners(1e-6), [0.2e-6, 0.22e-6, 0.7e-6, 0.72e-6]);
+  });
+
+  it('points are joined by straight lines and held after the last', () => {
+    const w = wave('points(0s 0V, 1ms 10V, 3ms -10V)');
+    expect(w.at(0.5e-3)).toBeCloseTo(5, 12);
+    expect(w.at(2e-3)).toBeCloseTo(0, 12);
+    expect(w.at(9)).toBe(-10);
+    expect(w.corners(1)).toEqual([1e-3, 3e-3]);
+  });
+
+  it('bad waveforms are refused with the reason', () => {
+    const error = (t: string) => {
+      const w = parseWaveform(t);
+      return 'error' in w ? w.error : '';
+    };
+    expect(error('clock(150V, 0V)')).toMatch(/period/);
+    expect(error('clock(150V, 0V, period=10us, width=10us)')).toMatch(/fit in the period/);
+    expect(error('clock(150 ohm, 0V, period=1ms)')).toMatch(/not in volts/);
+    expect(error('clock(150V, 0V, period=1ms, speed=3)')).toMatch(/not 'speed'/);
+    expect(error('pulse(0V, 5V, at=1us)')).toMatch(/width/);
+    expect(error('points(1ms 0V, 0s 1V)')).toMatch(/forward in time/);
+    expect(error('square(1)')).toMatch(/no waveform/);
+  });
+});
+
+describe('counting in time', () => {
+  it('the crate tally counts one position per two-phase clock when simulated in time (ring-counter logic, common practice)', () => {
+    const d = crateTally();
+    const r = pulseDesign(d, { inputs: twoPhase('100us'), stop: 300e-6, start: afterReset(d), nets: Array.from({ length: 10 }, (_, i) => `on[${i}]`) });
+    if (!('run' in r)) throw new Error(r.diagnostics[0]?.message);
+    expect(r.run.ok).toBe(true);
+    // After each phase B the lit position has moved one on; phase A alone moves nothing.
+    const lit = r.pulses.map((p) => p.states.findIndex(Boolean));
+    expect(r.pulses.map((p) => p.input)).toEqual(['LINE_A', 'LINE_B', 'LINE_A', 'LINE_B', 'LINE_A', 'LINE_B']);
+    expect(lit).toEqual([0, 1, 1, 2, 2, 3]);
+    for (const p of r.pulses) expect(p.states.filter(Boolean)).toHaveLength(1);
+    // A copy stage passes a change on within a microsecond or few: delays are positive and far below the phase.
+    const gate = r.stages.find((s) => s.stage === 'ps[1]')!;
+    expect(gate.delay!.seconds).toBeGreaterThan(0);
+    expect(gate.delay!.seconds).toBeLessThan(25e-6);
+    expect(gate.rise! + gate.fall!).toBeGreaterThan(0);
+  });
+
+  it('a toggle binary flips on every trigger, and with too small a trigger capacitor on none (capacitive divider: 1 pF into 10 pF of stray passes 14 V of a 150 V step)', () => {
+    const pulses = (ct: string) => {
+      const r = pulseDesign(design(binary(ct)), { inputs: new Map([['CLK', wave('clock(150V, 0V, period=100us, width=10%, edge=1%)')]]), stop: 400e-6, nets: ['a', 'b'] });
+      if (!('run' in r)) throw new Error(r.diagnostics[0]?.message);
+      return r;
+    };
+    const good = pulses('220 pF');
+    // A binary divides by two: its state alternates pulse by pulse (common practice, no source).
+    expect(good.pulses.map((p) => p.flipped)).toEqual([['a/b'], ['a/b'], ['a/b'], ['a/b']]);
+    expect(good.pulses.map((p) => p.states[0])).toEqual([true, false, true, false]);
+    // The trigger sets it off: the delay is counted from the trigger or the other plate, and is short.
+    expect(good.stages.find((s) => s.stage === 'a')!.delay!.seconds).toBeLessThan(10e-6);
+    const weak = pulses('1 pF');
+    expect(weak.pulses.every((p) => p.flipped.length === 0)).toBe(true);
+  });
+});
+
+describe('the fastest clock', () => {
+  it('the crate tally counts at the period found in every corner, fails just faster, and the stage named feeds the net that went wrong', { timeout: 120_000 }, () => {
+    const d = crateTally();
+    const r = clockLimit(d, { inputs: twoPhase('100us'), stop: 200e-6, start: afterReset(d), resolution: 0.05 });
+    if (!('runs' in r)) throw new Error(r.diagnostics[0]?.message);
+    expect(r.passing).toBeDefined();
+    expect(r.failing).toBeDefined();
+    expect(r.passing! / r.failing!.period).toBeLessThan(1.05);
+    expect(r.passing! / r.failing!.period).toBeGreaterThan(1);
+    expect(r.failing!.wrong.length).toBeGreaterThan(0);
+    expect(r.limiting).toBeDefined();
+    // The limiting stage is a net that went wrong or a stage feeding one (the stage graph's edges).
+    const wrong = r.failing!.wrong.map((w) => w.net);
+    const graph = buildStageGraph(d);
+    expect(wrong.some((n) => n === r.limiting!.stage || (graph.graph.predecessors(n) ?? []).includes(r.limiting!.stage))).toBe(true);
+    // A phase pulse (a quarter period) must outlast the copy that it clocks: the slowest
+    // stage's delay fits in the pulse at the passing period (common practice, no source).
+    expect(r.limiting!.delay!.seconds).toBeLessThan(0.25 * r.passing!);
+    // The limit lies between 5 and 50 µs for 47 kΩ loads into tens of picofarads.
+    expect(r.passing!).toBeGreaterThan(5e-6);
+    expect(r.passing!).toBeLessThan(50e-6);
+  });
+});
+
+describe('tubemargin pulse', () => {
+  const clock = 'CLK=clock(150V, 0V, period=100us, width=10%, edge=1%)';
+  it('a too small trigger capacitor fails the expectation with the latch named, exit 1', async () => {
+    const r = await run(['pulse', 'b.tube', '--for', '50us', '--input', clock, '--expect', 'a=1'], { 'b.tube': binary('1 pF') });
+    expect(r.code).toBe(1);
+    expect(r.out).toMatch(/Expected a=1 at the end, NOT met: latch a\/b flipped on no pulse/);
+    expect(r.out).toMatch(/CAUTION/);
+    const ok = await run(['pulse', 'b.tube', '--for', '50us', '--input', clock, '--expect', 'a=1'], { 'b.tube': binary('220 pF') });
+    expect(ok.code).toBe(0);
+  });
+
+  it('writes waveforms as CSV and JSON, and never overwrites a file it did not write', async () => {
+    const files = { 'b.tube': binary('220 pF'), 'mine.csv': 'my own notes\n' };
+    const r = await run(['pulse', 'b.tube', '--for', '50us', '--input', clock, '--csv', 'w.csv', '--nets', 'a,b'], files);
+    expect(r.code).toBe(0);
+    const lines = r.written['w.csv']!.trim().split('\n');
+    expect(lines[0]).toBe('time_s,t,a,b');
+    expect(lines.length).toBeGreaterThan(20);
+    const refused = await run(['pulse', 'b.tube', '--for', '50us', '--input', clock, '--csv', 'mine.csv'], files);
+    expect(refused.code).toBe(2);
+    expect(refused.err).toMatch(/not a tubemargin waveform CSV/);
+    const json = await run(['pulse', 'b.tube', '--for', '150us', '--input', clock, '--json', '--nets', 'a,b'], files);
+    const doc = JSON.parse(json.out);
+    expect(doc.schema).toBe('tubemargin.pulse/1');
+    expect(doc.pulses).toHaveLength(2);
+    expect(doc.waves.time.length).toBe(doc.waves.volts.a.length);
+  });
+
+  it('bad options are usage errors (exit 2): no length, a bad waveform, a drive the design lacks', async () => {
+    const files = { 'b.tube': binary('220 pF') };
+    expect((await run(['pulse', 'b.tube', '--input', clock], files)).code).toBe(2);
+    const bad = await run(['pulse', 'b.tube', '--for', '1ms', '--input', 'CLK=clock(150V, 0V, perod=1ms)'], files);
+    expect(bad.code).toBe(2);
+    expect(bad.err).toMatch(/not 'perod'/);
+    const nope = await run(['pulse', 'b.tube', '--for', '1ms', '--input', 'NOPE=150V'], files);
+    expect(nope.code).toBe(2);
+    expect(nope.err).toMatch(/'NOPE' is no drive/);
+    expect(nope.err).not.toMatch(/the design has errors/);
+  });
+});

@@ -1,0 +1,89 @@
+import { describe, expect, it } from 'vitest';
+import { parseWaveform, simulate, type TransientResult } from '../../lib/index.js';
+import { design } from '../helpers.js';
+
+const wave = (text: string) => {
+  const w = parseWaveform(text);
+  if ('error' in w) throw new Error(w.error);
+  return w.value;
+};
+const run = (text: string, inputs: Record<string, string>, options: Partial<Parameters<typeof simulate>[1]> & { stop: number }): TransientResult => {
+  const r = simulate(design(text), { strayFarads: 0, inputs: new Map(Object.entries(inputs).map(([k, v]) => [k, wave(v)])), ...options });
+  if (!('times' in r)) throw new Error(r.diagnostics.map((d) => d.message).join('; '));
+  return r;
+};
+
+/** An RC low-pass: 10 kΩ into 100 nF, τ = 1 ms, driven by a 10 V step with a 1 ns edge at 0.1 ms. */
+const RC = `drive IN (in) 0 V
+resistor R1 (in, out) 10 k
+capacitor C1 (out, gnd) 100 nF`;
+const TAU = 1e-3;
+const T0 = 1e-4;
+const EDGE = 1e-9;
+
+/** Closed form of the RC charge after a step of V at t0 (the first-order linear ODE's solution), the ramp's nanosecond ignored. */
+const charging = (t: number) => (t <= T0 ? 0 : 10 * (1 - Math.exp(-(t - T0 - EDGE / 2) / TAU)));
+
+describe('simulation in time against closed forms', () => {
+  it('an RC charge follows 10 V·(1 − e^(−t/RC)) within 0.1 % of the step at every point (first-order ODE, closed form)', () => {
+    const r = run(RC, { IN: `points(0s 0V, ${T0}s 0V, ${T0 + EDGE}s 10V)` }, { stop: 6e-3 });
+    const out = r.volts('out')!;
+    let worst = 0;
+    r.times.forEach((t, i) => {
+      if (t > T0 + EDGE) worst = Math.max(worst, Math.abs(out[i]! - charging(t)));
+    });
+    expect(r.ok).toBe(true);
+    expect(worst / 10).toBeLessThan(1e-3);
+    expect(r.accepted).toBeLessThan(2000);
+  });
+
+  it('an RC-coupled step decays as V·e^(−t/RC) at the far side of a coupling capacitor (closed form)', () => {
+    // 100 nF in series, 10 kΩ to ground: the output jumps with the input and decays.
+    const r = run(`drive IN (in) 0 V\ncapacitor CC (in, out) 100 nF\nresistor R1 (out, gnd) 10 k`, { IN: `points(0s 0V, ${T0}s 0V, ${T0 + EDGE}s 10V)` }, { stop: 5e-3 });
+    const out = r.volts('out')!;
+    let worst = 0;
+    r.times.forEach((t, i) => {
+      if (t > T0 + 1e-6) worst = Math.max(worst, Math.abs(out[i]! - 10 * Math.exp(-(t - T0 - EDGE / 2) / TAU)));
+    });
+    expect(worst / 10).toBeLessThan(1e-3);
+  });
+
+  it('halving the step cuts the trapezoidal rule’s error about four times on a linear RC circuit (its known second order)', () => {
+    const error = (h: number) => {
+      const r = run(RC, { IN: `points(0s 0V, ${T0}s 0V, ${T0 + EDGE}s 10V)` }, { stop: 2e-3, fixedStep: h });
+      const out = r.volts('out')!;
+      return Math.abs(out[out.length - 1]! - charging(2e-3));
+    };
+    const e1 = error(1e-4);
+    const e2 = error(5e-5);
+    const e3 = error(2.5e-5);
+    expect(e1 / e2).toBeGreaterThan(3.5);
+    expect(e1 / e2).toBeLessThan(4.5);
+    expect(e2 / e3).toBeGreaterThan(3.5);
+    expect(e2 / e3).toBeLessThan(4.5);
+    // Backward Euler, first order, halves its error instead.
+    const be = (h: number) => {
+      const r = run(RC, { IN: `points(0s 0V, ${T0}s 0V, ${T0 + EDGE}s 10V)` }, { stop: 2e-3, fixedStep: h, method: 'backward-euler' });
+      const out = r.volts('out')!;
+      return Math.abs(out[out.length - 1]! - charging(2e-3));
+    };
+    expect(be(1e-4) / be(5e-5)).toBeGreaterThan(1.8);
+    expect(be(1e-4) / be(5e-5)).toBeLessThan(2.2);
+  });
+
+  it('charge is conserved on a node held only by capacitors, at every step (Kirchhoff: no current path off the island)', () => {
+    // The island {mid, far}: 1 nF from the driven input, 2.2 nF to ground at mid, 10 kΩ to far, 470 pF to ground at far.
+    const r = run(`drive IN (in) 0 V\ncapacitor CC (in, mid) 1 nF\ncapacitor C2 (mid, gnd) 2.2 nF\nresistor R (mid, far) 10 k\ncapacitor C3 (far, gnd) 470 pF`, { IN: 'clock(0V, 20V, period=40us, width=50%, edge=1us)' }, { stop: 200e-6 });
+    const vin = r.volts('in')!;
+    const mid = r.volts('mid')!;
+    const far = r.volts('far')!;
+    let worst = 0;
+    r.times.forEach((_, i) => {
+      const charge = 1e-9 * (mid[i]! - vin[i]!) + 2.2e-9 * mid[i]! + 470e-12 * far[i]!;
+      worst = Math.max(worst, Math.abs(charge));
+    });
+    // 20 nC swing on CC; what is left is gmin's leak (1e-12 S) and Newton's tolerance.
+    expect(worst).toBeLessThan(20e-9 * 1e-6);
+    expect(Math.max(...mid)).toBeGreaterThan(1);
+  });
+});
