@@ -168,9 +168,10 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--expect <NET=1,…>', 'states the watched nets must have at the end (exit 1 when not)')
     .option('--fastest', 'search for the fastest clock that still counts in worst case, and the stage that limits it')
     .option('--csv <FILE>', 'write the waveforms of the watched nets and inputs to FILE')
+    .option('-o, --output <FILE>', 'write an HTML page with the waveforms, states, delays and fastest clock')
     .option('--json', 'print the run as tubemargin.pulse/1 JSON, waveforms included')
-    .action((file: string, opts: PulseCliOptions) => {
-      code = runPulse(file, { ...program.opts(), ...opts }, io);
+    .action(async (file: string, opts: PulseCliOptions) => {
+      code = await runPulse(file, { ...program.opts(), ...opts }, io);
     });
 
   program

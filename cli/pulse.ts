@@ -15,9 +15,11 @@ import {
 } from '../lib/index.js';
 import { FARADS, SECONDS } from '../lib/netlist/units.js';
 import { formatSI, table, wrap } from '../lib/report/format.js';
+import { renderPulseReport } from '../lib/report/htmlReport.js';
 import { safetyCautions } from '../lib/report/safety.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
+import { refuseToOverwrite, writeReport } from './report.js';
 
 export const PULSE_SUMMARY = 'simulate the design in time under input waveforms: states, delays, fastest clock';
 
@@ -47,13 +49,14 @@ export interface PulseCliOptions extends GlobalOptions {
   expect?: string;
   fastest?: boolean;
   csv?: string;
+  output?: string;
   json?: boolean;
 }
 
 /** The first line of every waveform CSV this command writes: an existing file that starts otherwise is never overwritten. */
 const CSV_FIRST_COLUMN = 'time_s';
 
-export function runPulse(file: string, options: PulseCliOptions, io: CliIo): number {
+export async function runPulse(file: string, options: PulseCliOptions, io: CliIo): Promise<number> {
   const inputs = new Map<string, Waveform>();
   for (const given of options.input ?? []) {
     const m = /^([^=\s]+)\s*=\s*(.+)$/.exec(given);
@@ -80,6 +83,10 @@ export function runPulse(file: string, options: PulseCliOptions, io: CliIo): num
     expected.push({ net: m[1]!, high: m[2] === '1' });
   }
   if (options.fastest && ![...inputs.values()].some((w) => w.period !== undefined)) return usageError(io, '--fastest needs a clock(...) input whose period it can shorten');
+  if (options.output !== undefined) {
+    const refused = refuseToOverwrite(options.output, io);
+    if (refused !== undefined) return refused;
+  }
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
   const { design } = loaded;
@@ -135,6 +142,12 @@ export function runPulse(file: string, options: PulseCliOptions, io: CliIo): num
   if (options.csv !== undefined) {
     const code = writeCsv(options.csv, r, [...inputs.keys()].flatMap((name) => design.parts.filter((p) => p.type === 'drive' && p.name === name).map((p) => (p.type === 'drive' ? p.node : ''))), io);
     if (code !== EXIT.ok) return code;
+  }
+  if (options.output !== undefined) {
+    const html = await renderPulseReport({ design, source: file, run: r, inputs: new Map([...inputs].map(([k, w]) => [k, w.text])), limit });
+    const failed = writeReport(options.output, html, io);
+    if (failed !== undefined) return failed;
+    io.stderr(`wrote ${options.output}\n`);
   }
   const ok = r.run.ok && misses.length === 0 && (!limit || limit.passing !== undefined);
   if (options.json) {

@@ -22,15 +22,12 @@ export interface ReportCliOptions extends CheckCliOptions {
   heater?: string;
 }
 
-export async function runReport(file: string, options: ReportCliOptions, io: CliIo): Promise<number> {
-  const out = options.output;
-  if (!out) return usageError(io, 'say where to write the report: -o FILE.html');
+/**
+ * Nothing the user wrote is overwritten: a report goes only where no file is, or over an
+ * earlier tubemargin report. Returns the exit code of the refusal (printed), or undefined.
+ */
+export function refuseToOverwrite(out: string, io: CliIo): number | undefined {
   if (!io.writeFile) return usageError(io, 'this run cannot write files');
-  const settings = readCheckOptions(options, io);
-  if (typeof settings === 'number') return settings;
-  const swept = readSweepOptions(options, io);
-  if (typeof swept === 'number') return swept;
-  // Nothing the user wrote is overwritten: only a file that is an earlier report, or none.
   let existing: string | undefined;
   try {
     existing = io.readFile(out);
@@ -38,6 +35,28 @@ export async function runReport(file: string, options: ReportCliOptions, io: Cli
     existing = undefined;
   }
   if (existing !== undefined && !existing.startsWith(REPORT_MARK)) return usageError(io, `${out} exists and is not a tubemargin report: choose another name, or move it away`);
+  return undefined;
+}
+
+/** Writes a report checked by `refuseToOverwrite`; returns the exit code of a failure (printed), or undefined. */
+export function writeReport(out: string, html: string, io: CliIo): number | undefined {
+  try {
+    io.writeFile!(out, html);
+  } catch (e) {
+    return usageError(io, `cannot write ${out}: ${(e as Error).message}`);
+  }
+  return undefined;
+}
+
+export async function runReport(file: string, options: ReportCliOptions, io: CliIo): Promise<number> {
+  const out = options.output;
+  if (!out) return usageError(io, 'say where to write the report: -o FILE.html');
+  const settings = readCheckOptions(options, io);
+  if (typeof settings === 'number') return settings;
+  const swept = readSweepOptions(options, io);
+  if (typeof swept === 'number') return swept;
+  const refused = refuseToOverwrite(out, io);
+  if (refused !== undefined) return refused;
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
   const checked = await checkWithSamples(loaded, settings, io);
@@ -53,11 +72,8 @@ export async function runReport(file: string, options: ReportCliOptions, io: Cli
   }
   const op = solveOperatingPoint(loaded.design);
   const html = await renderHtmlReport({ design: loaded.design, check: checked.result, source: file, nominal: 'nodes' in op && op.converged ? op : undefined, samples: checked.sampled, sweep });
-  try {
-    io.writeFile(out, html);
-  } catch (e) {
-    return usageError(io, `cannot write ${out}: ${(e as Error).message}`);
-  }
+  const failed = writeReport(out, html, io);
+  if (failed !== undefined) return failed;
   io.stderr(`wrote ${out}: ${checked.result.verdict === 'pass' ? 'PASS' : 'FAIL'}\n`);
   return checked.result.verdict === 'pass' ? EXIT.ok : EXIT.failed;
 }

@@ -166,3 +166,40 @@ export function sweepChart(sweep: RailSweepResult): TopLevelSpec {
     ],
   } as TopLevelSpec;
 }
+
+/** Line colours for up to eight nets on one plot: our own, dark enough on the page's cream. */
+const TRACE_COLOURS = [PALETTE.ink, PALETTE.fail, PALETTE.pass, '#3d5a80', '#c77d2e', '#7b4b94', '#5c6f2a', PALETTE.guide];
+
+/** Most points drawn per trace; longer runs keep each bucket's lowest and highest point, so no spike is lost. */
+const MAX_TRACE_POINTS = 1200;
+
+/** Voltages of up to eight nets over time, from a simulation. */
+export function waveformChart(title: string, times: readonly number[], traces: readonly { net: string; volts: Float64Array }[]): TopLevelSpec {
+  const end = times[times.length - 1] ?? 0;
+  const [scale, unit] = end < 1e-3 ? [1e6, 'µs'] : end < 1 ? [1e3, 'ms'] : [1, 's'];
+  const buckets = Math.max(1, Math.ceil(times.length / (MAX_TRACE_POINTS / 2)));
+  const values = traces.slice(0, TRACE_COLOURS.length).flatMap(({ net, volts }) => {
+    const out: { t: number; v: number; net: string }[] = [];
+    for (let i = 0; i < times.length; i += buckets) {
+      let lo = i;
+      let hi = i;
+      for (let j = i; j < Math.min(times.length, i + buckets); j++) {
+        if (volts[j]! < volts[lo]!) lo = j;
+        if (volts[j]! > volts[hi]!) hi = j;
+      }
+      for (const k of lo <= hi ? [lo, hi] : [hi, lo]) out.push({ t: times[k]! * scale, v: volts[k]!, net });
+    }
+    return out;
+  });
+  const nets = traces.slice(0, TRACE_COLOURS.length).map((t) => t.net);
+  return {
+    ...base(title, 620, 300),
+    data: { values },
+    mark: { type: 'line', strokeWidth: 1.4, interpolate: 'linear' },
+    encoding: {
+      x: { field: 't', type: 'quantitative', title: `time (${unit})` },
+      y: { field: 'v', type: 'quantitative', title: 'volts' },
+      color: { field: 'net', type: 'nominal', scale: { domain: nets, range: TRACE_COLOURS.slice(0, nets.length) }, legend: { title: null, orient: 'bottom' } },
+    },
+  } as TopLevelSpec;
+}

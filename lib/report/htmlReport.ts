@@ -1,10 +1,12 @@
 import type { CheckResult } from '../analysis/check.js';
+import { TIMING_CORNERS, type ClockLimitResult } from '../analysis/clockLimit.js';
+import type { PulseRun } from '../analysis/pulseRun.js';
 import type { MonteCarloResult } from '../analysis/monteCarlo.js';
 import type { RailSweepResult } from '../analysis/sweep.js';
 import type { Design } from '../design/model.js';
 import { findLibraryEntry } from '../models/library.js';
 import type { OperatingPoint } from '../solve/operatingPoint.js';
-import { butterflyChart, histogramChart, marginChart, PALETTE, svgOf, sweepChart, transferChart } from './charts.js';
+import { butterflyChart, histogramChart, marginChart, PALETTE, svgOf, sweepChart, transferChart, waveformChart } from './charts.js';
 import { DEFINITIONS } from './checkReport.js';
 import { formatSI } from './format.js';
 import { safetyCautions } from './safety.js';
@@ -133,6 +135,69 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
 
   return `${REPORT_MARK}
 <html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1"><title>${e(title)} — tubemargin</title><style>${STYLE}</style></head>
+<body>${parts.join('\n')}<footer>Made by tubemargin. It checks logic margins, not safety.</footer></body></html>
+`;
+}
+
+export interface PulseReportInput {
+  design: Design;
+  source: string;
+  run: PulseRun;
+  /** Each driven input's waveform, as written. */
+  inputs: ReadonlyMap<string, string>;
+  limit?: ClockLimitResult;
+  /** The nets to plot (up to eight a plot); the watched nets where absent. */
+  plotted?: string[];
+}
+
+/**
+ * The page of a simulation in time: the inputs, the waveforms of the watched nets (eight
+ * a plot, the driven inputs first), the state after every pulse and what it flipped, each
+ * stage's delay, rise and fall, and the fastest clock when searched. Self-contained like
+ * the check report, and marked the same way, so it too overwrites only earlier reports.
+ */
+export async function renderPulseReport(input: PulseReportInput): Promise<string> {
+  const { design, run: r } = input;
+  const e = escapeHtml;
+  const title = design.title || '(untitled design)';
+  const si = (x: number | undefined, unit: string) => (x === undefined ? '—' : formatSI(x, unit));
+  const parts: string[] = [];
+  const inputs = [...input.inputs].map(([k, w]) => `<li><code>${e(k)} = ${e(w)}</code></li>`).join('');
+  parts.push(`<header><h1>${e(title)}</h1><p class="source">${e(input.source)} · simulated ${e(si(r.run.times[r.run.times.length - 1], 's'))} in ${r.run.accepted} steps</p><ul>${inputs}</ul></header>`);
+  const cautions = safetyCautions(design);
+  if (cautions.length > 0) parts.push(`<section id="caution" class="caution"><h2>Caution: high voltage</h2>${cautions.map((c) => `<p>${e(c)}</p>`).join('')}</section>`);
+  const driven = design.parts.flatMap((p) => (p.type === 'drive' && input.inputs.has(p.name) ? [p.node] : []));
+  const nets = [...new Set([...driven, ...(input.plotted ?? r.nets)])];
+  const plots: string[] = [];
+  for (let k = 0; k < Math.min(nets.length, 8 * MAX_PLOTS); k += 8) {
+    const group = nets.slice(k, k + 8);
+    const spec = waveformChart(`Waveforms: ${group.join(', ')}`, r.run.times, group.map((net) => ({ net, volts: r.run.volts(net)! })));
+    plots.push(`<figure class="plot">${await svgOf(spec)}<figcaption>${e('Each net against time; long runs keep the lowest and highest point of every stretch.')}</figcaption></figure>`);
+  }
+  parts.push(`<section id="waves"><h2>Waveforms</h2><div class="plots">${plots.join('')}</div></section>`);
+  const bits = (s: boolean[]) => s.map((x) => (x ? '1' : '0')).join('');
+  parts.push(
+    `<section id="pulses"><h2>State after each pulse</h2><p>Watched nets in order: ${e(r.nets.join(', '))}.</p><table><thead><tr><th>pulse</th><th>input</th><th>at</th><th>state after</th><th>latches flipped</th></tr></thead><tbody>${r.pulses
+      .map((p, i) => `<tr><td>${i + 1}</td><td>${e(p.input)}</td><td>${e(si(p.at, 's'))}</td><td><code>${bits(p.states)}</code></td><td>${e(p.flipped.join(', ') || 'none')}</td></tr>`)
+      .join('')}</tbody></table></section>`,
+  );
+  parts.push(
+    `<section id="timing"><h2>Stages that switched</h2><table><thead><tr><th>stage</th><th>longest delay</th><th>from</th><th>rise</th><th>fall</th><th>transitions</th></tr></thead><tbody>${[...r.stages]
+      .sort((a, b) => (b.delay?.seconds ?? 0) - (a.delay?.seconds ?? 0))
+      .map((s) => `<tr><td>${e(s.stage)}</td><td>${e(si(s.delay?.seconds, 's'))}</td><td>${e(s.delay?.from ?? '—')}</td><td>${e(si(s.rise, 's'))}</td><td>${e(si(s.fall, 's'))}</td><td>${s.transitions}</td></tr>`)
+      .join('')}</tbody></table></section>`,
+  );
+  const l = input.limit;
+  if (l) {
+    const corner = (name: string) => TIMING_CORNERS.find((c) => c.name === name)?.description ?? name;
+    const f = l.failing;
+    const failed = f ? `At ${si(f.period, 's')} it fails in the ${f.corner} corner (${corner(f.corner)})${f.pulse > 0 ? ` after pulse ${f.pulse}: ${f.wrong.slice(0, 6).map((w) => `${w.net} should be ${w.expected ? 1 : 0}`).join(', ')}` : `: ${f.why ?? ''}`}.` : '';
+    const verdict = l.passing === undefined ? `FAILS at the given period, ${si(l.givenPeriod, 's')}.` : `A period of ${si(l.passing, 's')} (${si(1 / l.passing, 'Hz')}) counts as the given clock does in every corner.`;
+    const limiting = l.limiting ? `<p>Limiting stage: <strong>${e(l.limiting.stage)}</strong>, delay ${e(si(l.limiting.delay?.seconds, 's'))} from ${e(l.limiting.delay?.from ?? '—')}.</p>` : '';
+    parts.push(`<section id="fastest"><h2>Fastest clock in worst case</h2><p id="verdict" class="verdict ${l.passing === undefined ? 'fail' : 'pass'}">${e(verdict)}</p><p>${e(failed)}</p>${limiting}</section>`);
+  }
+  return `${REPORT_MARK}
+<html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1"><title>${e(title)} — tubemargin pulse</title><style>${STYLE}</style></head>
 <body>${parts.join('\n')}<footer>Made by tubemargin. It checks logic margins, not safety.</footer></body></html>
 `;
 }

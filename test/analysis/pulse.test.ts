@@ -184,6 +184,20 @@ describe('tubemargin pulse', () => {
     expect(doc.waves.time.length).toBe(doc.waves.volts.a.length);
   });
 
+  it('writes an HTML page with the waveforms plotted, overwriting only an earlier report', async () => {
+    const files = { 'b.tube': binary('220 pF'), 'notes.html': '<p>mine</p>' };
+    const r = await run(['pulse', 'b.tube', '--for', '150us', '--input', clock, '-o', 'p.html'], files);
+    expect(r.code).toBe(0);
+    const html = r.written['p.html']!;
+    expect(html.startsWith('<!doctype html><!-- tubemargin report -->')).toBe(true);
+    expect(html).toMatch(/<svg/);
+    expect(html).toMatch(/State after each pulse/);
+    expect(html).toMatch(/Caution: high voltage/);
+    expect(html).not.toMatch(/<script/);
+    const refused = await run(['pulse', 'b.tube', '--for', '150us', '--input', clock, '-o', 'notes.html'], files);
+    expect(refused.code).toBe(2);
+  });
+
   it('bad options are usage errors (exit 2): no length, a bad waveform, a drive the design lacks', async () => {
     const files = { 'b.tube': binary('220 pF') };
     expect((await run(['pulse', 'b.tube', '--input', clock], files)).code).toBe(2);

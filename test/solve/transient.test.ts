@@ -87,3 +87,36 @@ describe('simulation in time against closed forms', () => {
     expect(Math.max(...mid)).toBeGreaterThan(1);
   });
 });
+
+describe('interelectrode capacitance in time', () => {
+  it("a triode's grid charges with the Miller capacitance Cgk + Cgp·(1 + A) (J. M. Miller, NBS Scientific Paper 351, 1920)", () => {
+    // A 12AU7 section with a 10 kΩ plate load, its grid fed from a bias source through 1 MΩ
+    // and stepped 0.1 V: small enough that the stage stays linear.
+    const text = `rail hv = 150 V
+drive IN (in) -4 V
+resistor RG (in, g) 1 M
+resistor RL (hv, p) 10 k
+section V1 "12AU7" (p, g, gnd)`;
+    // The stage's gain A = −dVp/dVg from two DC solves (a central difference).
+    const plateAt = (vg: number) => {
+      const r = run(text, { IN: `${vg}V` }, { stop: 1e-9 });
+      return r.volts('p')![0]!;
+    };
+    const gain = -(plateAt(-3.95) - plateAt(-4.05)) / 0.1;
+    expect(gain).toBeGreaterThan(5);
+    const r = run(text, { IN: 'points(0s -4V, 1us -4V, 1.001us -3.9V)' }, { stop: 300e-6 });
+    const g = r.volts('g')!;
+    // Time for the grid to cover 1 − 1/e of its step: one time constant of R·C_in.
+    const target = -4 + 0.1 * (1 - Math.exp(-1));
+    const i = g.findIndex((v) => v >= target);
+    const t63 = r.times[i - 1]! + ((r.times[i]! - r.times[i - 1]!) * (target - g[i - 1]!)) / (g[i]! - g[i - 1]!) - 1.0005e-6;
+    // The library's 12AU7 capacitances (RCA Receiving Tube Manual, from memory).
+    const cgk = 1.6e-12;
+    const cgp = 1.5e-12;
+    const miller = 1e6 * (cgk + cgp * (1 + gain));
+    if (process.env.SHOW_NUMBERS) console.log({ gain, t63, miller });
+    expect(Math.abs(t63 / miller - 1)).toBeLessThan(0.03);
+    // Without the grid–plate capacitance's multiplication the grid would be several times faster.
+    expect(t63).toBeGreaterThan(3 * 1e6 * (cgk + cgp));
+  });
+});
