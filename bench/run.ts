@@ -4,6 +4,7 @@ import { generateRegister } from './generate.js';
 import { againstDense, benchSizes, iterationAgainstModels } from './solverBench.js';
 import { benchCheck } from './checkBench.js';
 import { benchDemoYield, benchSampling } from './samplingBench.js';
+import { benchPulse } from './pulseBench.js';
 
 /**
  * `npm run bench`: measures, in one run, what the goals in docs/PERFORMANCE.md are about,
@@ -116,6 +117,20 @@ const samplingTable = [
 ].join('\n');
 process.stdout.write(samplingTable + '\n');
 
+// ---- simulation in time ----------------------------------------------------------------
+const pulse = benchPulse();
+const pulseTable = [
+  `Measured ${new Date().toISOString().slice(0, 10)} on ${process.platform}/${process.arch}, Node ${process.version}, by \`npm run bench\`.`,
+  '',
+  '| what | time | steps (taken again) | Newton iterations | per step |',
+  '|---|---:|---:|---:|---:|',
+  `| nets/crate-tally.tube, 3 two-phase clocks at 100 µs (${pulse.unknowns} unknowns, ${pulse.capacitors} capacitors) | ${(pulse.runMs / 1000).toFixed(2)} s | ${pulse.steps.toLocaleString('en')} (${pulse.rejected}) | ${pulse.iterations.toLocaleString('en')} | ${((pulse.runMs * 1000) / (pulse.steps + pulse.rejected)).toFixed(0)} µs |`,
+  `| fastest-clock search on the same, 3 corners | ${(pulse.limitMs / 1000).toFixed(1)} s | ${pulse.runs} simulations | | |`,
+  '',
+  `- Fastest clock found: ${pulse.passing === undefined ? 'none' : `${(pulse.passing * 1e6).toFixed(2)} µs (${(1e-3 / pulse.passing).toFixed(1)} kHz)`}; it fails just faster in the ${pulse.corner ?? '—'} corner; limiting stage ${pulse.limiting ?? '—'}.`,
+].join('\n');
+process.stdout.write(pulseTable + '\n');
+
 if (process.argv.includes('--write')) {
   const path = new URL('../../docs/PERFORMANCE.md', import.meta.url);
   let doc = readFileSync(path, 'utf8');
@@ -131,6 +146,7 @@ if (process.argv.includes('--write')) {
   put('solver', solverTable);
   put('check', checkTable);
   put('sampling', samplingTable);
+  put('pulse', pulseTable);
   writeFileSync(path, doc);
   process.stdout.write('docs/PERFORMANCE.md updated\n');
 }

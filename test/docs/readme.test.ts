@@ -17,8 +17,14 @@ async function run(args: string[]): Promise<{ out: string; err: string }> {
 
 /** The fenced blocks of the README that show a command and what it printed. */
 function quotedRuns(): { command: string; shown: string[] }[] {
-  const blocks = [...README.matchAll(/```\n\$ tubemargin ([^\n]+)\n([\s\S]*?)```/g)];
-  return blocks.map((m) => ({ command: m[1] as string, shown: (m[2] as string).split('\n').filter((l) => l !== '' && l !== '…') }));
+  // A command may go on over lines that end in a backslash, as in a shell.
+  const blocks = [...README.matchAll(/```\n\$ tubemargin ((?:[^\n]*\\\n)*[^\n]+)\n([\s\S]*?)```/g)];
+  return blocks.map((m) => ({ command: (m[1] as string).replace(/\\\n\s*/g, ''), shown: (m[2] as string).split('\n').filter((l) => l !== '' && l !== '…') }));
+}
+
+/** Splits a command line into words as a shell would for these examples: spaces, and double quotes around words with spaces. */
+function words(command: string): string[] {
+  return [...command.matchAll(/"([^"]*)"|(\S+)/g)].map((m) => m[1] ?? m[2]!);
 }
 
 describe('the README', () => {
@@ -31,8 +37,10 @@ describe('the README', () => {
   it('shows, line for line, what each quoted command prints', async () => {
     const ts = quotedRuns().filter((t) => !t.command.includes('>'));
     expect(ts.length).toBeGreaterThanOrEqual(2);
+    // Commands over several lines are read whole (the pulse example is one).
+    expect(ts.some((t) => t.command.startsWith('pulse') && t.command.includes('--fastest'))).toBe(true);
     for (const t of ts) {
-      const r = await run(t.command.split(' '));
+      const r = await run(words(t.command));
       const printed = (r.out + r.err).split('\n');
       let at = 0;
       for (const line of t.shown) {
