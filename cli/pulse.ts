@@ -161,23 +161,12 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
 
 /** Writes time and every watched net's voltage (and the driven inputs') as CSV; refuses to overwrite a file that is not such a CSV. */
 function writeCsv(path: string, r: PulseRun, inputNets: string[], io: CliIo): number {
-  if (!io.writeFile) return usageError(io, 'this run cannot write files');
-  let existing: string | undefined;
-  try {
-    existing = io.readFile(path);
-  } catch {
-    existing = undefined;
-  }
-  if (existing !== undefined && !existing.startsWith(`${CSV_FIRST_COLUMN},`)) return usageError(io, `${path} exists and is not a tubemargin waveform CSV: choose another name, or move it away`);
+  const refused = refuseToOverwrite(path, io, { mark: `${CSV_FIRST_COLUMN},`, what: 'a tubemargin waveform CSV' });
+  if (refused !== undefined) return refused;
   const nets = [...new Set([...inputNets, ...r.nets])];
   const traces = nets.map((n) => r.run.volts(n)!);
   const rows = r.run.times.map((t, i) => [t.toPrecision(9), ...traces.map((v) => v[i]!.toFixed(4))]);
-  try {
-    io.writeFile(path, stringify([[CSV_FIRST_COLUMN, ...nets], ...rows]));
-  } catch (e) {
-    return usageError(io, `cannot write ${path}: ${(e as Error).message}`);
-  }
-  return EXIT.ok;
+  return writeReport(path, stringify([[CSV_FIRST_COLUMN, ...nets], ...rows]), io) ?? EXIT.ok;
 }
 
 const bits = (states: boolean[]) => states.map((s) => (s ? '1' : '0')).join('');

@@ -24,9 +24,10 @@ export interface ReportCliOptions extends CheckCliOptions {
 
 /**
  * Nothing the user wrote is overwritten: a report goes only where no file is, or over an
- * earlier tubemargin report. Returns the exit code of the refusal (printed), or undefined.
+ * earlier tubemargin report (a file that starts with `ours.mark`). Returns the exit code of
+ * the refusal (printed), or undefined.
  */
-export function refuseToOverwrite(out: string, io: CliIo): number | undefined {
+export function refuseToOverwrite(out: string, io: CliIo, ours: { mark: string; what: string } = { mark: REPORT_MARK, what: 'a tubemargin report' }): number | undefined {
   if (!io.writeFile) return usageError(io, 'this run cannot write files');
   let existing: string | undefined;
   try {
@@ -34,11 +35,11 @@ export function refuseToOverwrite(out: string, io: CliIo): number | undefined {
   } catch {
     existing = undefined;
   }
-  if (existing !== undefined && !existing.startsWith(REPORT_MARK)) return usageError(io, `${out} exists and is not a tubemargin report: choose another name, or move it away`);
+  if (existing !== undefined && !existing.startsWith(ours.mark)) return usageError(io, `${out} exists and is not ${ours.what}: choose another name, or move it away`);
   return undefined;
 }
 
-/** Writes a report checked by `refuseToOverwrite`; returns the exit code of a failure (printed), or undefined. */
+/** Writes a report (or `pulse`'s CSV) checked by `refuseToOverwrite`; returns the exit code of a failure (printed), or undefined. */
 export function writeReport(out: string, html: string, io: CliIo): number | undefined {
   try {
     io.writeFile!(out, html);

@@ -27,7 +27,7 @@ export function checkDesign(design: Design): Diagnostic[] {
     if (p.type === 'resistor' && !(p.ohms > 0 && p.watts > 0)) problems.push(`${p.name} has a non-positive value or rating`);
     if (p.type === 'capacitor' && !(p.farads > 0)) problems.push(`${p.name} has a non-positive capacitance`);
     if ((p.type === 'resistor' || p.type === 'capacitor' || p.type === 'drive') && !(p.tol >= 0 && p.tol <= MAX_TOLERANCE)) problems.push(`${p.name} has tolerance ${p.tol}`);
-    if (p.stage !== undefined && !partPins(p).some(([, n]) => n === p.stage) && p.role !== 'series' && p.role !== 'pulldown' && p.role !== 'screen') {
+    if (p.stage !== undefined && !partPins(p).some(([, n]) => n === p.stage) && p.role !== 'series' && p.role !== 'pulldown' && p.role !== 'screen' && p.role !== 'speedup') {
       problems.push(`${p.name} claims stage '${p.stage}' but does not touch it`);
     }
   }

@@ -442,6 +442,10 @@ class Expander {
         grid = `${base}.g${n}`;
         const value = this.resistorValue(input.series, scope.values, 'a series resistor');
         if (value) this.addPart({ type: 'resistor', name: `${base}.s${n}`, a: from.global, b: grid, ...value, ...role('series'), span: input.span });
+        if (input.speedup) {
+          const farads = evaluateAs(input.speedup, scope.values, { what: 'a speed-up capacitance', dim: FARADS, sign: 'positive' }, d);
+          if (farads !== undefined) this.addPart({ type: 'capacitor', name: `${base}.c${n}`, a: from.global, b: grid, farads, tol: CAPACITOR_TOL, ...role('speedup'), span: input.span });
+        }
         if (input.pulldown) {
           const to = refer(input.pulldown.to);
           const pd = this.resistorValue(input.pulldown.spec, scope.values, 'a pull-down resistor');

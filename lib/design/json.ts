@@ -11,7 +11,7 @@ import { SPANS, array, bool, literal, num, object, optional, str, variants, type
 /** The schema tag of the JSON design form. */
 export const DESIGN_SCHEMA = 'tubemargin.design/1';
 
-const stagePart = { stage: optional(str()), role: optional(literal('load', 'section', 'series', 'pulldown', 'screen')) };
+const stagePart = { stage: optional(str()), role: optional(literal('load', 'section', 'series', 'pulldown', 'screen', 'speedup')) };
 
 /** The JSON design form `tubemargin.design/1`, declared once; `DesignJson` is derived from it. */
 export const designJsonSchema = object({
@@ -55,7 +55,7 @@ export const designJsonSchema = object({
       }),
       diode: object({ type: literal('diode'), name: str(), anode: str(), cathode: str(), is: optional(num()), n: optional(num()), rs: optional(num()) }),
       switch: object({ type: literal('switch'), name: str(), a: str(), b: str(), closed: optional(bool()), momentary: optional(bool()) }),
-      capacitor: object({ type: literal('capacitor'), name: str(), a: str(), b: str(), farads: num(), tol: optional(num()) }),
+      capacitor: object({ type: literal('capacitor'), name: str(), a: str(), b: str(), farads: num(), tol: optional(num()), ...stagePart }),
       drive: object({ type: literal('drive'), name: str(), node: str(), volts: num(), tol: optional(num()), sourceOhms: optional(num()) }),
     }),
   ),

@@ -57,6 +57,8 @@ export interface StageInput {
   /** Absent when the grid is tied straight to the net (`input x direct`). */
   series: ValueSpec | undefined;
   pulldown: { spec: ValueSpec; to: NetRef } | undefined;
+  /** A speed-up capacitor across the series resistor (`series 470 k speedup 47 pF`). */
+  speedup: Expr | undefined;
   span: SourceSpan;
 }
 

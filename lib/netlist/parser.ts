@@ -415,16 +415,21 @@ class Parser {
         const from = this.parseNetRef('the net this input comes from');
         if (this.isWord('direct')) {
           this.next();
-          return { kind: 'input', from, series: undefined, pulldown: undefined, span: this.since(t) };
+          return { kind: 'input', from, series: undefined, pulldown: undefined, speedup: undefined, span: this.since(t) };
         }
         this.expectWord('series');
         const series = this.parseValueSpec();
+        let speedup: Expr | undefined;
+        if (this.isWord('speedup')) {
+          this.next();
+          speedup = this.parseExpr();
+        }
         let pulldown: { spec: ValueSpec; to: NetRef } | undefined;
         if (this.isWord('pulldown')) {
           this.next();
           pulldown = this.parseSpecTo('the rail the pull-down returns to');
         }
-        return { kind: 'input', from, series, pulldown, span: this.since(t) };
+        return { kind: 'input', from, series, pulldown, speedup, span: this.since(t) };
       }
     }
   }

@@ -149,6 +149,10 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
   let iterations = 0;
   const xNew = new Float64Array(n);
   const vcNew = new Float64Array(m);
+  // The last points for the error estimate, and one node's values at them (reused every step).
+  const tsLast = new Float64Array(4);
+  const xsLast: Float64Array[] = [xNew, xNew, xNew, xNew];
+  const ys = new Float64Array(4);
 
   while (t < stop * (1 - 1e-12) && accepted < maxSteps) {
     while (corners[nextCorner]! <= t * (1 + 1e-12)) nextCorner++;
@@ -182,10 +186,15 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
     let ratio = 0;
     const need = euler ? 3 : 4;
     if (options.fixedStep === undefined && sinceCorner + 1 >= need) {
-      const ts = [...times.slice(times.length - (need - 1)), tNew];
-      const xs = [...states.slice(states.length - (need - 1)), xNew];
+      for (let j = 0; j < need - 1; j++) {
+        tsLast[j] = times[times.length - need + 1 + j]!;
+        xsLast[j] = states[states.length - need + 1 + j]!;
+      }
+      tsLast[need - 1] = tNew;
+      xsLast[need - 1] = xNew;
       for (let i = 0; i < n; i++) {
-        const dd = dividedDifference(ts, xs.map((s) => s[i]!));
+        for (let j = 0; j < need; j++) ys[j] = xsLast[j]![i]!;
+        const dd = dividedDifference(tsLast, ys, need);
         const err = euler ? step * step * Math.abs(dd) : (step * step * step * Math.abs(dd)) / 2;
         const allowed = relTol * Math.max(Math.abs(xNew[i]!), Math.abs(x[i]!)) + absTol;
         ratio = Math.max(ratio, err / allowed);
@@ -242,9 +251,8 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
   };
 }
 
-/** The highest divided difference of values `y` at times `t` (Newton's form). */
-function dividedDifference(t: number[], y: number[]): number {
-  const d = [...y];
-  for (let level = 1; level < t.length; level++) for (let i = t.length - 1; i >= level; i--) d[i] = (d[i]! - d[i - 1]!) / (t[i]! - t[i - level]!);
-  return d[t.length - 1]!;
+/** The highest divided difference of the first `count` values `y` at times `t` (Newton's form); overwrites `y`. */
+function dividedDifference(t: Float64Array, y: Float64Array, count: number): number {
+  for (let level = 1; level < count; level++) for (let i = count - 1; i >= level; i--) y[i] = (y[i]! - y[i - 1]!) / (t[i]! - t[i - level]!);
+  return y[count - 1]!;
 }

@@ -147,10 +147,11 @@ describe('the fastest clock', () => {
     const wrong = r.failing!.wrong.map((w) => w.net);
     const graph = buildStageGraph(d);
     expect(wrong.some((n) => n === r.limiting!.stage || (graph.graph.predecessors(n) ?? []).includes(r.limiting!.stage))).toBe(true);
-    // A phase pulse (a quarter period) must outlast the copy that it clocks: the slowest
+    // A phase pulse (a quarter period) must outlast the copy that it clocks: the limiting
     // stage's delay fits in the pulse at the passing period (common practice, no source).
     expect(r.limiting!.delay!.seconds).toBeLessThan(0.25 * r.passing!);
-    // The limit lies between 5 and 50 µs for 47 kΩ loads into tens of picofarads.
+    // The order of magnitude from the RC time constants: 47 kΩ loads into some 30 pF give
+    // 1.4 µs a stage, and a clock passes a copy gate and a latch twice (common practice, no source).
     expect(r.passing!).toBeGreaterThan(5e-6);
     expect(r.passing!).toBeLessThan(50e-6);
   });

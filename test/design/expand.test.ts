@@ -46,6 +46,19 @@ resistor RB (b, bias) 100 k`);
     expect(part(d.parts, 'q.screen')).toMatchObject({ a: 'q.sg', b: 'bp', ohms: 4700 });
   });
 
+  it('puts a speed-up capacitor across the series resistor when an input names one', () => {
+    const d = design(`${HEADER}
+stage q { tube LT; load 33 k to bp; input a series 220 k speedup 47 pF pulldown 220 k to bias; input b series 220 k pulldown 220 k to bias }
+resistor RA (a, bias) 100 k
+resistor RB (b, bias) 100 k`);
+    expect(part(d.parts, 'q.c1')).toMatchObject({ type: 'capacitor', a: 'a', b: 'q.g1', farads: 47e-12, tol: 0.1, stage: 'q', role: 'speedup' });
+    expect(d.parts.some((p) => p.name === 'q.c2')).toBe(false);
+    const bad = load(`${HEADER}
+stage q { tube LT; load 33 k to bp; input a series 220 k speedup 47 kΩ pulldown 220 k to bias }
+resistor RA (a, bias) 100 k`);
+    expect(codes(bad.diagnostics)).toContain('unit-mismatch');
+  });
+
   it('applies the design defaults: tolerance, rating, margin, stray capacitance and tube', () => {
     const d = design(`${HEADER}
 defaults { tolerance = 10 %, rating = 0.25 W, margin = 2 V, stray = 22 pF, tube = LT }

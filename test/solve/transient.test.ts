@@ -88,6 +88,27 @@ describe('simulation in time against closed forms', () => {
   });
 });
 
+describe('speed-up capacitors', () => {
+  it('a compensated divider (R1·C1 = R2·C2) passes a step at once and flat, an uncompensated one with its time constant (the compensated attenuator, common practice, no source)', () => {
+    // 470 kΩ with a speed-up capacitor, 390 kΩ with 56 pF to ground: compensated at C1 = 56 pF·390/470.
+    const divider = (c1: string) => `drive IN (in) 0 V\nresistor R1 (in, out) 470 k\ncapacitor C1 (in, out) ${c1}\nresistor R2 (out, gnd) 390 k\ncapacitor C2 (out, gnd) 56 pF`;
+    const final = (10 * 390) / 860;
+    const step = { IN: `points(0s 0V, 1us 0V, 1.01us 10V)` };
+    const compensated = run(divider(`${(56 * 390) / 470} pF`), step, { stop: 100e-6 });
+    const out = compensated.volts('out')!;
+    compensated.times.forEach((t, i) => {
+      if (t > 1.02e-6) expect(Math.abs(out[i]! - final)).toBeLessThan(final * 1e-3);
+    });
+    // Without the speed-up capacitor the output rises with τ = (R1‖R2)·C2 = 11.9 µs.
+    const slow = run(divider('0.001 pF'), step, { stop: 100e-6 });
+    const tau = ((470e3 * 390e3) / 860e3) * 56e-12;
+    const v = slow.volts('out')!;
+    const i = slow.times.findIndex((t) => t >= 1.01e-6 + tau);
+    expect(v[i]! / final).toBeGreaterThan(0.6);
+    expect(v[i]! / final).toBeLessThan(0.66);
+  });
+});
+
 describe('interelectrode capacitance in time', () => {
   it("a triode's grid charges with the Miller capacitance Cgk + Cgp·(1 + A) (J. M. Miller, NBS Scientific Paper 351, 1920)", () => {
     // A 12AU7 section with a 10 kΩ plate load, its grid fed from a bias source through 1 MΩ
