@@ -24,10 +24,11 @@ import { refuseToOverwrite, writeReport } from './report.js';
 export const PULSE_SUMMARY = 'simulate the design in time under input waveforms: states, delays, fastest clock';
 
 export const PULSE_HELP = `
-Drives inputs with waveforms and simulates the circuit in time: every capacitor of
-the design, each tube's grid-cathode, grid-plate (Miller) and plate-cathode
-capacitance from the library, and a stray capacitance on every net (--stray,
-default 10 pF), integrated by the trapezoidal rule with error-controlled steps.
+Drives inputs with waveforms and simulates the circuit in time: every
+capacitor of the design, each tube's grid-cathode, grid-plate (Miller) and
+plate-cathode capacitance from the library, and a stray capacitance on every
+net (--stray, or the design's; 10 pF unless set), integrated by the
+trapezoidal rule with error-controlled steps.
 Prints the watched nets' states after each pulse and the latches each pulse
 flipped, and each stage's propagation delay and rise and fall times.
 --fastest then searches for the shortest clock period at which the states after

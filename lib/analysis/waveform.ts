@@ -21,7 +21,7 @@ export const WAVEFORM_FORMS = [
   '150V (a steady level)',
   'clock(IDLE, ACTIVE, period=1ms, width=25%, delay=0, edge=1%, count=N)',
   'pulse(IDLE, ACTIVE, at=10us, width=5us, edge=0.1us)',
-  'points(0s 0V, 1us 10V, …) (straight lines between the points, held after the last)',
+  'points(0s 0V, 1us 10V, …) (straight lines, held after the last point)',
 ];
 
 type Read<T> = { value: T } | { error: string };
