@@ -201,15 +201,19 @@ function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string,
   out.push('Watched nets, in the order of the state column:');
   r.nets.forEach((n, i) => out.push(`  ${String(i + 1).padStart(2)}. ${n}`));
   out.push('');
-  out.push(
+  if (r.pulses.length === 0) {
+    // Only steady levels and points: no pulse to judge, so the state the run ends in.
+    const end = r.run.times[r.run.times.length - 1]!;
+    out.push(`No clock or pulse input; the state at the end (${si(end, 's')}): ${bits(r.statesAt(r.nets, end))}`, '');
+  } else out.push(
     ...table(
       ['  pulse', 'input', 'at', 'state after', 'flipped'],
       r.pulses.map((p, i) => [`  ${i + 1}`, p.input, si(p.at, 's'), bits(p.states), p.flipped.length === 0 ? 'none' : p.flipped]),
       [7, 12, 10, 24],
     ),
+    '  (state after: each watched net just before the next pulse, 1 high, 0 low)',
+    '',
   );
-  out.push('  (state after: each watched net just before the next pulse, 1 high, 0 low)');
-  out.push('');
   const stages = [...r.stages].sort((a, b) => (b.delay?.seconds ?? 0) - (a.delay?.seconds ?? 0)).slice(0, 10);
   if (stages.length > 0) {
     out.push(`Stages that switched, longest delay first (${Math.min(10, r.stages.length)} of ${r.stages.length}); rise and fall 10–90 %:`);

@@ -199,6 +199,12 @@ describe('tubemargin pulse', () => {
     expect(refused.code).toBe(2);
   });
 
+  it('without a clock it reports the state the run ends in: the adder with its carry switch closed reads sum 1, carry 0 (the full adder\'s truth table)', async () => {
+    const r = await run(['pulse', 'nets/nor-adder.tube', '--for', '50us', '--nets', 'a,b,cin,cout,sum']);
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/the state at the end \(50 µs\): 00101\n/);
+  });
+
   it('bad options are usage errors (exit 2): no length, a bad waveform, a drive the design lacks', async () => {
     const files = { 'b.tube': binary('220 pF') };
     expect((await run(['pulse', 'b.tube', '--input', clock], files)).code).toBe(2);
