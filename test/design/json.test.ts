@@ -34,6 +34,21 @@ describe('the JSON design form tubemargin.design/1', () => {
     });
   }
 
+  it('round-trips a speed-up capacitor and the stray setting: text → model → JSON → model', () => {
+    const text = `rail bp = 24 V
+rail bias = -12 V
+defaults { stray = 15 pF }
+stage q { tube "12AU7"; load 33 k to bp; input a series 220 k speedup 47 pF pulldown 220 k to bias }
+resistor RA (a, bias) 100 k`;
+    const fromText = loadDesign('s.tube', text, { checkModel: true });
+    expect(fromText.ok).toBe(true);
+    const json = JSON.stringify(designToJson(fromText.design!));
+    const fromJson = loadDesign('again.json', json, { checkModel: true });
+    expect(withoutSpans(fromJson.design)).toEqual(withoutSpans(fromText.design));
+    expect(fromJson.design!.settings.strayFarads).toBeCloseTo(15e-12, 20);
+    expect(fromJson.design!.parts.find((p) => p.name === 'q.c1')).toMatchObject({ type: 'capacitor', role: 'speedup', stage: 'q' });
+  });
+
   it('points a JSON syntax error at the character', () => {
     const r = designFromJson('{\n  "schema": "tubemargin.design/1",\n  "parts": [,]\n}', 'bad.json');
     expect(where(r.diagnostics)).toEqual(['3:13-3:14 json-syntax']);
