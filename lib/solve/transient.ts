@@ -6,6 +6,7 @@ import { formatSI } from '../report/format.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import { compileCircuit, type Circuit } from './circuit.js';
 import { DcSystem, type NewtonSettings } from './dcSystem.js';
+import type { LinearSystemFactory } from './linearSystem.js';
 import { solveOperatingPoint, type StateHint } from './operatingPoint.js';
 
 export interface TransientOptions {
@@ -32,6 +33,8 @@ export interface TransientOptions {
   variation?: ReadonlyMap<string, SectionVariation>;
   /** Steps allowed before giving up. */
   maxSteps?: number;
+  /** Linear solver; the sparse LU unless a test asks for the dense reference. */
+  linear?: LinearSystemFactory;
 }
 
 export interface TransientResult {
@@ -80,7 +83,7 @@ function designAt(design: Design, inputs: ReadonlyMap<string, Waveform>, t: numb
 export function simulate(design: Design, options: TransientOptions): TransientResult | { diagnostics: Diagnostic[] } {
   const inputs = options.inputs ?? new Map<string, Waveform>();
   const start = designAt(design, inputs, 0);
-  const op = solveOperatingPoint(start, { ...(options.start ? { start: options.start } : { hints: options.hints }), variation: options.variation });
+  const op = solveOperatingPoint(start, { ...(options.start ? { start: options.start } : { hints: options.hints }), variation: options.variation, linear: options.linear });
   if (!('nodes' in op)) return { diagnostics: op.diagnostics };
   if (!op.converged) return { diagnostics: [error('no-convergence', 'the operating point at time 0 did not converge, so there is nothing to start the simulation from', undefined), ...op.diagnostics.filter((d) => d.severity === 'error')] };
   const compiled = compileCircuit(start, {
@@ -91,7 +94,7 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
   const c = compiled.circuit;
   const own = new Set(design.parts.filter((p) => p.type === 'capacitor').map((p) => p.name));
   if (options.parasiticScale !== undefined) for (let k = 0; k < c.cF.length; k++) if (!own.has(c.capacitorNames[k]!)) c.cF[k] = c.cF[k]! * options.parasiticScale;
-  const system = new DcSystem(c);
+  const system = new DcSystem(c, options.linear);
   const n = c.n;
   const m = c.cA.length;
   const driven = [...inputs].flatMap(([name, w]) => (c.driveFixed.has(name) ? [[c.driveFixed.get(name)!, w] as const] : []));
