@@ -76,6 +76,6 @@ export { parseSequence, type SequenceAction } from './analysis/sequence.js';
 export { stepDesign, watchedNets, type StepResult, type StepRow } from './analysis/stepper.js';
 export { parseQuantity, parseWaveform, WAVEFORM_FORMS, type Waveform } from './analysis/waveform.js';
 export { simulate, interelectrodeOf, type TransientOptions, type TransientResult } from './solve/transient.js';
-export { stageTimings, statesAt, type StageTiming } from './analysis/timing.js';
+export { causeNets, stageTimings, statesAt, type StageTiming } from './analysis/timing.js';
 export { pulseDesign, type PulseOptions, type PulseOutcome, type PulseRun } from './analysis/pulseRun.js';
 export { clockLimit, atCorner, stageTime, TIMING_CORNERS, type ClockFailure, type ClockLimitOptions, type ClockLimitResult, type TimingCorner } from './analysis/clockLimit.js';

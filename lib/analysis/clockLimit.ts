@@ -2,7 +2,7 @@ import { CAPACITOR_TOL, type Design, type Part } from '../design/model.js';
 import { NOMINAL_VARIATION, type SectionVariation } from '../models/tubeEquations.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import { pulseDesign, type PulseOptions, type PulseRun } from './pulseRun.js';
-import type { StageTiming } from './timing.js';
+import { causeNets, type StageTiming } from './timing.js';
 import type { Waveform } from './waveform.js';
 
 /** A tolerance corner for timing: how the design is moved off nominal. */
@@ -68,7 +68,7 @@ export interface ClockLimitResult {
   failing: ClockFailure | undefined;
   /** The stages switching slowest in the limiting corner at the passing period, slowest first. */
   slowest: StageTiming[];
-  /** The stage that limits the clock: of the nets that went wrong first and the stages feeding them, the slowest in the limiting corner at the passing period. */
+  /** The stage that limits the clock: of the nets that went wrong first and the stages that can set them off (`causeNets`), the slowest in the limiting corner at the passing period. */
   limiting: StageTiming | undefined;
   /** Simulations run. */
   runs: number;
@@ -139,7 +139,8 @@ export function clockLimit(design: Design, options: ClockLimitOptions): ClockLim
   }
   const limiting = passing.runs.get(failing?.corner ?? 'nominal');
   const byTime = (limiting?.stages ?? []).filter((s) => s.delay).sort((a, b) => stageTime(b) - stageTime(a));
-  const suspects = new Set((failing?.wrong ?? []).flatMap(({ net }) => [net, ...((reference.graph.graph.predecessors(net) ?? []) as string[])]));
+  const causes = causeNets(design, reference.graph);
+  const suspects = new Set((failing?.wrong ?? []).flatMap(({ net }) => [net, ...(causes.get(net) ?? [])]));
   return { givenPeriod: given, passing: passing.period, failing, slowest: byTime.slice(0, 5), limiting: byTime.find((s) => suspects.has(s.stage)), runs };
 }
 

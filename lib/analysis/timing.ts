@@ -1,4 +1,4 @@
-import type { Design } from '../design/model.js';
+import { GROUND, type Design } from '../design/model.js';
 import type { StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold } from '../solve/operatingPoint.js';
 import type { TransientResult } from '../solve/transient.js';
@@ -7,6 +7,53 @@ import type { TransientResult } from '../solve/transient.js';
 interface Crossing {
   time: number;
   rising: boolean;
+}
+
+/** How far the search for the nets that can set a stage off may wander through internal nodes. */
+const MAX_CAUSE_SEARCH = 256;
+
+/**
+ * For every stage, the logic nets that can set it off: those reached from its output net
+ * and its sections' grids through resistors, capacitors and diodes, without passing
+ * another logic net or a rail. The stage graph's edges (a net feeding a grid through its
+ * divider) are among them; so is a trigger that reaches a latch's plates through a
+ * capacitor and steering diodes, which the stage graph, built for DC, does not follow.
+ */
+export function causeNets(design: Design, graph: StageGraph): Map<string, string[]> {
+  const logic = new Set(graph.nets.map((n) => n.name));
+  const fixed = new Set<string>([GROUND, ...design.rails.map((r) => r.name)]);
+  const links = new Map<string, string[]>();
+  const link = (a: string, b: string) => {
+    (links.get(a) ?? links.set(a, []).get(a)!).push(b);
+    (links.get(b) ?? links.set(b, []).get(b)!).push(a);
+  };
+  for (const p of design.parts) {
+    if (p.type === 'resistor' || p.type === 'capacitor') link(p.a, p.b);
+    else if (p.type === 'diode') link(p.anode, p.cathode);
+  }
+  const grids = new Map<string, string[]>();
+  for (const p of design.parts) if (p.type === 'tube') (grids.get(p.plate) ?? grids.set(p.plate, []).get(p.plate)!).push(p.grid);
+  const out = new Map<string, string[]>();
+  for (const net of graph.nets) {
+    if (net.kind !== 'stage') continue;
+    const found = new Set<string>();
+    const seen = new Set<string>([net.name]);
+    const queue = [net.name, ...(grids.get(net.name) ?? [])];
+    for (const g of queue) seen.add(g);
+    while (queue.length > 0 && seen.size < MAX_CAUSE_SEARCH) {
+      const at = queue.shift()!;
+      for (const next of links.get(at) ?? []) {
+        if (seen.has(next) || fixed.has(next)) continue;
+        seen.add(next);
+        if (logic.has(next)) found.add(next);
+        else queue.push(next);
+      }
+    }
+    for (const p of (graph.graph.predecessors(net.name) ?? []) as string[]) found.add(p);
+    found.delete(net.name);
+    out.set(net.name, [...found]);
+  }
+  return out;
 }
 
 /** How one stage switched during a simulation. */
@@ -58,10 +105,8 @@ function indexAt(times: readonly number[], t: number): number {
 /**
  * Propagation delay and transition times of every stage in a simulation. A net's
  * transition is a crossing of its logic threshold (half its pull-up rail, as everywhere);
- * its delay is measured from the latest crossing before it of any net feeding the stage's
- * grids or of a driven input (`triggers`, each at the midpoint of its own swing): the
- * event that set it off, also where a trigger reaches a latch through capacitors and
- * diodes, which the stage graph does not follow. Rise and fall run from 10 % to 90 % of
+ * its delay is measured from the latest crossing before it of a net that can set it off
+ * (`causeNets`) or of a driven input (`triggers`, each at the midpoint of its own swing). Rise and fall run from 10 % to 90 % of
  * the step between the levels the net settles at on either side: each read halfway to its
  * neighbouring transitions (or the ends of the run). Stages that never switch are left out.
  */
@@ -83,12 +128,13 @@ export function stageTimings(design: Design, graph: StageGraph, run: TransientRe
   }
   const out: StageTiming[] = [];
   const end = times[times.length - 1]!;
+  const coupled = causeNets(design, graph);
   for (const net of graph.nets) {
     if (net.kind !== 'stage') continue;
     const own = crossed(net.name);
     if (own.length === 0) continue;
     const v = run.volts(net.name)!;
-    const causes = [...new Set([...((graph.graph.predecessors(net.name) ?? []) as string[]), ...triggers])].filter((n) => n !== net.name);
+    const causes = [...new Set([...(coupled.get(net.name) ?? []), ...triggers])].filter((n) => n !== net.name);
     const timing: StageTiming = { stage: net.name, transitions: own.length };
     own.forEach((c, k) => {
       let from: { net: string; time: number } | undefined;

@@ -132,6 +132,46 @@ describe('counting in time', () => {
   });
 });
 
+describe('the cap counter, a ripple binary', () => {
+  const capCounter = (edit: (text: string) => string = (t) => t) => {
+    const files = netsFiles();
+    const text = edit(files['nets/cap-counter.tube']!);
+    return loadDesign('nets/cap-counter.tube', text, { loader: memoryLoader({ ...files, 'nets/cap-counter.tube': text }) }).design!;
+  };
+  const count = (d: ReturnType<typeof capCounter>, pulses: number) => {
+    const r = pulseDesign(d, {
+      inputs: new Map([['HOPPER', wave('clock(150V, 0V, period=100us, width=10%)')]]),
+      stop: pulses * 100e-6 - 50e-6,
+      hints: [0, 1, 2, 3].map((i) => ({ net: `q[${i}]`, high: false })),
+      nets: ['q[3]', 'q[2]', 'q[1]', 'q[0]'],
+    });
+    if (!('run' in r)) throw new Error(r.diagnostics[0]?.message);
+    return r;
+  };
+
+  it('counts caps in binary, 1 to 15 and round to 0, one a pulse (a ripple binary counter, common practice, no source)', () => {
+    const r = count(capCounter(), 16);
+    expect(r.pulses.map((p) => parseInt(p.states.map((s) => (s ? '1' : '0')).join(''), 2))).toEqual([1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 0]);
+    // The lowest stage flips on every pulse, each higher one on every second flip of the one below.
+    expect(r.pulses.filter((p) => p.flipped.includes('nq[0]/q[0]'))).toHaveLength(16);
+    expect(r.pulses.filter((p) => p.flipped.includes('nq[3]/q[3]'))).toHaveLength(2);
+    // A stage set off through the trigger capacitor: its delay is counted from the stage below.
+    expect(r.stages.find((s) => s.stage === 'nq[2]')!.delay!.from).toBe('q[1]');
+  });
+
+  it('with a trigger network too slow to recover (220 pF into 100 kΩ: 22 µs) it miscounts past 7, and the stage that fails is named', async () => {
+    // The steering node holds both plates of a stage down until it recovers: a flip that
+    // needs a plate to rise waits for it, and the stages below glitch (RC time constant).
+    const slow = (t: string) => t.replace(/let ct = 100 pF/, 'let ct = 220 pF').replace(/resistor RS \(steer, hv\) 47 k/, 'resistor RS (steer, hv) 100 k');
+    const r = count(capCounter(slow), 8);
+    expect(r.pulses.map((p) => p.states[0])).toEqual([false, false, false, false, false, false, false, false]);
+    const files = netsFiles();
+    const cli = await run(['pulse', 'nets/cap-counter.tube', '--for', '750us', '--input', 'HOPPER=clock(150V, 0V, period=100us, width=10%)', '--hint', 'q[0]=0', '--hint', 'q[1]=0', '--hint', 'q[2]=0', '--hint', 'q[3]=0', '--expect', 'q[3]=1'], { 'nets/cap-counter.tube': slow(files['nets/cap-counter.tube']!) });
+    expect(cli.code).toBe(1);
+    expect(cli.out).toMatch(/Expected q\[3\]=1 at the end, NOT met: latch nq\[3\]\/q\[3\] flipped on no pulse/);
+  });
+});
+
 describe('the fastest clock', () => {
   it('the crate tally counts at the period found in every corner, fails just faster, and the stage named feeds the net that went wrong', { timeout: 120_000 }, () => {
     const d = crateTally();
