@@ -71,3 +71,27 @@ button UP (n, hv)
 button DOWN (n, gnd)
 resistor RN (n, neg) 100 k
 stage a { load 47 k to hv; screen hv; input n series 470 k pulldown 390 k to neg }`;
+
+/**
+ * A toggle binary (a test design of our own): two cross-coupled triodes with speed-up
+ * capacitors, a negative trigger from CLK through capacitor CT onto a steering node held at
+ * the supply, and a diode from each plate to it, so the trigger pulls down the high plate.
+ */
+export const toggleBinaryText = (ct: string): string => `type T like "12AU7" { spread = 30 % }
+rail hv = 150 V tol 5 %
+rail neg = -75 V tol 5 %
+resistor LA (hv, a) 47 k
+resistor LB (hv, b) 47 k
+section VA T (a, ga, gnd)
+section VB T (b, gb, gnd)
+resistor SA (b, ga) 470 k
+resistor PA (ga, neg) 390 k
+resistor SB (a, gb) 470 k
+resistor PB (gb, neg) 390 k
+capacitor KA (b, ga) 47 pF
+capacitor KB (a, gb) 47 pF
+drive CLK (t) 150 V source 1 k
+capacitor CT (t, s) ${ct}
+resistor RS (s, hv) 100 k
+diode DA (a, s)
+diode DB (b, s)`;

@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { buildStageGraph, clockLimit, loadDesign, parseSequence, parseWaveform, pulseDesign, stepDesign, type Waveform } from '../../lib/index.js';
 import { design, memoryLoader, netsFiles } from '../helpers.js';
 import { runCommand as run } from '../cliRun.js';
+import { toggleBinaryText as binary } from './oracle.js';
 
 const wave = (text: string): Waveform => {
   const w = parseWaveform(text);
@@ -26,30 +27,6 @@ const twoPhase = (period: string) =>
     ['LINE_A', wave(`clock(150V, 0V, period=${period}, width=25%)`)],
     ['LINE_B', wave(`clock(150V, 0V, period=${period}, width=25%, delay=50%)`)],
   ]);
-
-/**
- * A toggle binary (a test design of our own): two cross-coupled triodes with speed-up
- * capacitors, a negative trigger from CLK through capacitor CT onto a steering node held at
- * the supply, and a diode from each plate to it, so the trigger pulls down the high plate.
- */
-const binary = (ct: string) => `type T like "12AU7" { spread = 30 % }
-rail hv = 150 V tol 5 %
-rail neg = -75 V tol 5 %
-resistor LA (hv, a) 47 k
-resistor LB (hv, b) 47 k
-section VA T (a, ga, gnd)
-section VB T (b, gb, gnd)
-resistor SA (b, ga) 470 k
-resistor PA (ga, neg) 390 k
-resistor SB (a, gb) 470 k
-resistor PB (gb, neg) 390 k
-capacitor KA (b, ga) 47 pF
-capacitor KB (a, gb) 47 pF
-drive CLK (t) 150 V source 1 k
-capacitor CT (t, s) ${ct}
-resistor RS (s, hv) 100 k
-diode DA (a, s)
-diode DB (b, s)`;
 
 describe('waveforms', () => {
   it('a clock idles, ramps over its edge, holds for its width and repeats every period', () => {

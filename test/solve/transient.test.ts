@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { parseWaveform, simulate, type TransientResult } from '../../lib/index.js';
 import { design } from '../helpers.js';
 import { denseReference } from '../../bench/denseReference.js';
+import { toggleBinaryText } from '../analysis/oracle.js';
 
 const wave = (text: string) => {
   const w = parseWaveform(text);
@@ -145,24 +146,7 @@ section V1 "12AU7" (p, g, gnd)`;
 
 describe('the sparse solver in time', () => {
   it('gives the dense reference solver’s waveforms on a toggle binary (mathjs lup/lusolve as the oracle)', () => {
-    const text = `type T like "12AU7" { spread = 30 % }
-rail hv = 150 V
-rail neg = -75 V
-resistor LA (hv, a) 47 k
-resistor LB (hv, b) 47 k
-section VA T (a, ga, gnd)
-section VB T (b, gb, gnd)
-resistor SA (b, ga) 470 k
-resistor PA (ga, neg) 390 k
-resistor SB (a, gb) 470 k
-resistor PB (gb, neg) 390 k
-capacitor KA (b, ga) 47 pF
-capacitor KB (a, gb) 47 pF
-drive CLK (t) 150 V source 1 k
-capacitor CT (t, s) 220 pF
-resistor RS (s, hv) 100 k
-diode DA (a, s)
-diode DB (b, s)`;
+    const text = toggleBinaryText('220 pF');
     const inputs = { CLK: 'clock(150V, 0V, period=20us, width=10%, edge=1%)' };
     const sparse = run(text, inputs, { stop: 15e-6, strayFarads: 10e-12 });
     const dense = run(text, inputs, { stop: 15e-6, strayFarads: 10e-12, linear: denseReference });
