@@ -123,6 +123,8 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
     report(r.diagnostics, loaded.sources, io);
     return EXIT.failed;
   }
+  // The start's warnings (a hint that did not hold, say) go to stderr like a solve's.
+  report(r.run.diagnostics.filter((d) => d.severity === 'warning'), loaded.sources, io);
   for (const e of expected) if (!r.nets.includes(e.net) && !r.latches.flat().includes(e.net)) return usageError(io, `--expect names '${e.net}', which is no watched logic net`);
   const finalStates = r.statesAt(
     expected.map((e) => e.net),
@@ -197,7 +199,7 @@ function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string,
   const out = [`${title || '(untitled design)'} — ${file}`];
   out.push(`Simulated ${si(stop, 's')} in ${r.run.accepted} steps (${r.run.rejected} taken again); trapezoidal rule, steps by truncation error.`);
   for (const [name, w] of inputs) out.push(`  ${name} = ${w.text}`);
-  if (!r.run.ok) out.push(...wrap(`The run stopped early: ${r.run.diagnostics[0]?.message ?? 'no reason given'}.`, 80, ''));
+  if (!r.run.ok) out.push(...wrap(`The run stopped early: ${r.run.diagnostics.find((d) => d.severity === 'error')?.message ?? 'no reason given'}.`, 80, ''));
   out.push('Watched nets, in the order of the state column:');
   r.nets.forEach((n, i) => out.push(`  ${String(i + 1).padStart(2)}. ${n}`));
   out.push('');

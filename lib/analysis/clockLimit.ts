@@ -109,7 +109,7 @@ export function clockLimit(design: Design, options: ClockLimitOptions): ClockLim
         options.onRun?.(period, corner.name, false);
         return { failure: { period, corner: corner.name, ...f }, runs: done };
       };
-      if (!('run' in r) || !r.run.ok) return fail({ pulse: 0, wrong: [], why: ('run' in r ? r.run.diagnostics : r.diagnostics)[0]?.message ?? 'the run did not finish' });
+      if (!('run' in r) || !r.run.ok) return fail({ pulse: 0, wrong: [], why: ('run' in r ? r.run.diagnostics : r.diagnostics).find((d) => d.severity === 'error')?.message ?? 'the run did not finish' });
       done.set(corner.name, r);
       if (r.pulses.length !== expected.length) return fail({ pulse: 0, wrong: [], why: `the run at this period has ${r.pulses.length} pulses, the reference ${expected.length}` });
       for (let k = 0; k < expected.length; k++) {

@@ -147,7 +147,7 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
   const c = system.circuit;
   const graph = options.graph ?? buildStageGraph(design);
   const byName = options.start instanceof Map ? options.start : undefined;
-  const start = byName ? Float64Array.from(c.nodeNames, (name) => byName.get(name) ?? 0) : (options.start as Float64Array | undefined);
+  const start = byName ? startByName(c, byName) : (options.start as Float64Array | undefined);
   const warm = start !== undefined && start.length === c.n && options.hints === undefined;
   const hints = warm ? [] : collectHints(design, graph, options.hints ?? [], c, diagnostics);
   const rails = [0, ...design.rails.map((r) => r.volts)];
@@ -237,6 +237,25 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
   const tubes = tubeReport(c, x);
   diagnostics.push(...trustedRangeWarnings(design, tubes));
   return { converged, method, iterations, nodes, tubes, resistors: resistorReport(c, x), residualAmps, hints: outcomes, diagnostics, x, system };
+}
+
+/**
+ * The unknowns of `c` from net voltages by name. An internal node (behind a cathode
+ * interface or a diode's series resistance) that the map lacks starts at the net its
+ * internal resistance leads to, not at 0 V, which would put a diode hard into conduction.
+ */
+function startByName(c: Circuit, byName: ReadonlyMap<string, number>): Float64Array {
+  const x = Float64Array.from(c.nodeNames, (name) => byName.get(name) ?? NaN);
+  const volt = (t: number) => (t >= 0 ? x[t]! : c.fixedVolts[-1 - t]!);
+  for (let e = 0; e < c.gA.length; e++) {
+    if (c.gPart[e]! >= 0) continue;
+    const a = c.gA[e]!;
+    const b = c.gB[e]!;
+    if (a >= 0 && Number.isNaN(x[a]!) && !Number.isNaN(volt(b))) x[a] = volt(b);
+    else if (b >= 0 && Number.isNaN(x[b]!) && !Number.isNaN(volt(a))) x[b] = volt(a);
+  }
+  for (let i = 0; i < x.length; i++) if (Number.isNaN(x[i]!)) x[i] = 0;
+  return x;
 }
 
 /** A section counts as conducting, for the trusted-range check, above this plate current. */

@@ -47,6 +47,7 @@ export interface TransientResult {
   accepted: number;
   rejected: number;
   newtonIterations: number;
+  /** Why the run stopped early (errors), and the warnings of its operating point at time 0. */
   diagnostics: Diagnostic[];
   circuit: Circuit;
 }
@@ -76,7 +77,9 @@ function designAt(design: Design, inputs: ReadonlyMap<string, Waveform>, t: numb
  * error h³·x'''/12 (the second, and h²·x''/2, for a backward-Euler step); a step whose
  * error passes the tolerance is taken again shorter, and the next is scaled by the cube
  * root of the margin. Steps land exactly on waveform corners. A step Newton cannot take is
- * taken again at a quarter of its length.
+ * taken again at a quarter of its length. A node whose change flips sign three steps in a
+ * row is ringing (the trapezoidal rule does not damp modes far faster than its step): one
+ * backward-Euler step damps it.
  *
  * Starts from the DC operating point with every input at its level at time 0.
  */
@@ -139,7 +142,8 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
   const absTol = options.absoluteVolts ?? 1e-4;
   const trapezoidal = (options.method ?? 'trapezoidal') === 'trapezoidal';
   const maxSteps = options.maxSteps ?? 200_000;
-  const diagnostics: Diagnostic[] = [];
+  // The start's warnings (a hint not held, a latch undecided, a fit outside its range) stay with the run.
+  const diagnostics: Diagnostic[] = op.diagnostics.filter((d) => d.severity === 'warning');
   const hMin = stop * 1e-12;
   const hMax = options.fixedStep ?? stop / 50;
   let h = options.fixedStep ?? Math.min(hMax, (corners[0] ?? stop) / 100);
@@ -156,6 +160,10 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
   const tsLast = new Float64Array(4);
   const xsLast: Float64Array[] = [xNew, xNew, xNew, xNew];
   const ys = new Float64Array(4);
+  // Ringing watch: each node's last change, and how many changes in a row flipped sign.
+  const lastChange = new Float64Array(n);
+  const flips = new Int32Array(n);
+  let damp = false;
 
   while (t < stop * (1 - 1e-12) && accepted < maxSteps) {
     while (corners[nextCorner]! <= t * (1 + 1e-12)) nextCorner++;
@@ -163,7 +171,7 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
     const landsOnCorner = t + h >= corner * (1 - 1e-9);
     const step = landsOnCorner ? corner - t : h;
     const tNew = t + step;
-    const euler = !trapezoidal || sinceCorner < 2;
+    const euler = !trapezoidal || sinceCorner < 2 || damp;
     const fixedNew = fixedAt(tNew);
     for (let k = 0; k < m; k++) {
       const g = ((euler ? 1 : 2) * c.cF[k]!) / step;
@@ -214,6 +222,20 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
       ic[k] = companionSiemens[k]! * vcNew[k]! + companionAmps[k]!;
       vc[k] = vcNew[k]!;
     }
+    // The trapezoidal rule does not damp a mode much faster than the step (a node behind a
+    // small resistance and its stray): excited, it rings, flipping sign every step, and
+    // does not die away. Three flips in a row at a node, and one backward-Euler step,
+    // which damps such a mode at once, clears it.
+    damp = false;
+    for (let i = 0; i < n; i++) {
+      const change = xNew[i]! - x[i]!;
+      flips[i] = change * lastChange[i]! < 0 && Math.abs(change) > absTol ? flips[i]! + 1 : 0;
+      lastChange[i] = change;
+      if (flips[i]! >= 3 && !euler) {
+        damp = true;
+        flips[i] = 0;
+      }
+    }
     x = Float64Array.from(xNew);
     t = tNew;
     times.push(t);
@@ -234,7 +256,7 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
     }
   }
   const ok = t >= stop * (1 - 1e-12);
-  if (!ok && diagnostics.length === 0) diagnostics.push(error('no-convergence', `the simulation stopped at ${formatSI(t, 's')} after ${accepted} steps (the limit)`, undefined));
+  if (!ok && !diagnostics.some((d) => d.severity === 'error')) diagnostics.push(error('no-convergence', `the simulation stopped at ${formatSI(t, 's')} after ${accepted} steps (the limit)`, undefined));
   const traces = new Map<string, Float64Array>();
   return {
     times,
