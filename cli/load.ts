@@ -1,4 +1,4 @@
-import { AGEING_SCENARIOS, findScenario, hasErrors, loadDesign, type AgeingScenario, type Design, type Diagnostic } from '../lib/index.js';
+import { AGEING_SCENARIOS, findScenario, hasErrors, loadDesign, type AgeingScenario, type Design, type Diagnostic, type StateHint } from '../lib/index.js';
 import { formatDiagnostics } from './diagnostics.js';
 import { fileLoader, type CliIo } from './io.js';
 import { chalkFor } from './style.js';
@@ -34,6 +34,20 @@ export function report(diagnostics: Diagnostic[], sources: ReadonlyMap<string, s
   if (diagnostics.length === 0) return;
   io.stderr(formatDiagnostics(diagnostics, sources, chalkFor(io, 'stderr')) + '\n');
   if (hasErrors(diagnostics)) io.stderr('the design has errors; fix them and run again\n');
+}
+
+/**
+ * Logic states given as `NET=1` or `NET=0` words (`--hint`, `--expect`), read and checked.
+ * A number is the exit code of a usage error (printed).
+ */
+export function readStates(words: readonly string[], option: string, io: CliIo): StateHint[] | number {
+  const states: StateHint[] = [];
+  for (const w of words) {
+    const m = /^([^=\s]+)=([01])$/.exec(w);
+    if (!m) return usageError(io, `${option} takes NET=1 or NET=0, not '${w}'`);
+    states.push({ net: m[1]!, high: m[2] === '1' });
+  }
+  return states;
 }
 
 /** Prints a usage error (a bad option value) to stderr; returns the bad-input exit code. */

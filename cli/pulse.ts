@@ -10,7 +10,6 @@ import {
   WAVEFORM_FORMS,
   type ClockLimitResult,
   type PulseRun,
-  type StateHint,
   type Waveform,
 } from '../lib/index.js';
 import { FARADS, SECONDS } from '../lib/netlist/units.js';
@@ -18,7 +17,7 @@ import { formatSI, table, wrap } from '../lib/report/format.js';
 import { renderPulseReport } from '../lib/report/htmlReport.js';
 import { safetyCautions } from '../lib/report/safety.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
+import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 import { refuseToOverwrite, writeReport } from './report.js';
 
 export const PULSE_SUMMARY = 'simulate the design in time under input waveforms: states, delays, fastest clock';
@@ -71,18 +70,10 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
   if ('error' in stop || !(stop.value > 0)) return usageError(io, 'error' in stop ? stop.error : '--for must be above zero');
   const stray = options.stray === undefined ? undefined : parseQuantity(options.stray, FARADS, '--stray');
   if (stray && ('error' in stray || !(stray.value >= 0))) return usageError(io, 'error' in stray ? stray.error : '--stray cannot be negative');
-  const hints: StateHint[] = [];
-  for (const h of options.hint ?? []) {
-    const m = /^([^=\s]+)=([01])$/.exec(h);
-    if (!m) return usageError(io, `--hint takes NET=1 or NET=0, not '${h}'`);
-    hints.push({ net: m[1]!, high: m[2] === '1' });
-  }
-  const expected: { net: string; high: boolean }[] = [];
-  for (const e of (options.expect ?? '').split(/[\s,]+/).filter(Boolean)) {
-    const m = /^([^=\s]+)=([01])$/.exec(e);
-    if (!m) return usageError(io, `--expect takes NET=1,NET=0,…, not '${e}'`);
-    expected.push({ net: m[1]!, high: m[2] === '1' });
-  }
+  const hints = readStates(options.hint ?? [], '--hint', io);
+  if (typeof hints === 'number') return hints;
+  const expected = readStates((options.expect ?? '').split(/[\s,]+/).filter(Boolean), '--expect', io);
+  if (typeof expected === 'number') return expected;
   if (options.fastest && ![...inputs.values()].some((w) => w.period !== undefined)) return usageError(io, '--fastest needs a clock(...) input whose period it can shorten');
   if (options.output !== undefined) {
     const refused = refuseToOverwrite(options.output, io);

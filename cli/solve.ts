@@ -1,7 +1,7 @@
-import { designNets, findPart, solveOperatingPoint, type StateHint } from '../lib/index.js';
+import { designNets, findPart, solveOperatingPoint } from '../lib/index.js';
 import { renderSolve, solveToJson } from '../lib/report/solveReport.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
+import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 
 export const SOLVE_SUMMARY = 'solve the DC operating point: every node, section and resistor';
 
@@ -21,12 +21,8 @@ export interface SolveCliOptions extends GlobalOptions {
 
 export function runSolve(file: string, options: SolveCliOptions, io: CliIo): number {
   const bad = (message: string) => usageError(io, message);
-  const hints: StateHint[] = [];
-  for (const h of options.hint ?? []) {
-    const m = /^([^=\s]+)=([01])$/.exec(h);
-    if (!m) return bad(`--hint takes NET=1 or NET=0, not '${h}'`);
-    hints.push({ net: m[1]!, high: m[2] === '1' });
-  }
+  const hints = readStates(options.hint ?? [], '--hint', io);
+  if (typeof hints === 'number') return hints;
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
   const { design, sources } = loaded;

@@ -1,7 +1,7 @@
-import { checkMargins, parseSequence, stepDesign, type StateHint } from '../lib/index.js';
+import { checkMargins, parseSequence, stepDesign } from '../lib/index.js';
 import { table, wrap } from '../lib/report/format.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, report, usageError, type GlobalOptions } from './load.js';
+import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 
 export const STEP_SUMMARY = 'step the design through a sequence of inputs: the state after each step';
 
@@ -24,12 +24,8 @@ export interface StepCliOptions extends GlobalOptions {
 
 export function runStep(file: string, options: StepCliOptions, io: CliIo): number {
   if (!options.sequence) return usageError(io, 'give the sequence: --sequence FILE or --sequence "press START; expect on=1"');
-  const hints: StateHint[] = [];
-  for (const h of options.hint ?? []) {
-    const m = /^([^=\s]+)=([01])$/.exec(h);
-    if (!m) return usageError(io, `--hint takes NET=1 or NET=0, not '${h}'`);
-    hints.push({ net: m[1]!, high: m[2] === '1' });
-  }
+  const hints = readStates(options.hint ?? [], '--hint', io);
+  if (typeof hints === 'number') return hints;
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
   // A sequence is a file when one of that name can be read; otherwise it is the text itself.
