@@ -166,7 +166,9 @@ export function parseWaveform(text: string): Read<Waveform> {
         if (!(edge > 0) || edge > width) errors.push('a pulse edge must be above zero and no longer than its width');
         if (!(at >= 0)) errors.push('a pulse starts at a time of 0 or later');
         if (errors.length > 0) return { error: errors.join('; ') };
-        return { value: clock(text, { idle, active, period: at + width + edge + 1, width, delay: at, edge, count: 1, relative: { width: false, delay: false, edge: false } }) };
+        // One pulse is a clock of one period that never repeats; it has no period to shorten.
+        const { period: _p, withPeriod: _w, ...once } = clock(text, { idle, active, period: at + width + edge + 1, width, delay: at, edge, count: 1, relative: { width: false, delay: false, edge: false } });
+        return { value: once };
       }
       known(['period', 'width', 'delay', 'edge', 'count']);
       const period = seconds('period', NaN);

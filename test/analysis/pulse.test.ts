@@ -51,6 +51,18 @@ describe('waveforms', () => {
     near(faster.corners(1e-6), [0.2e-6, 0.22e-6, 0.7e-6, 0.72e-6]);
   });
 
+  it('a single pulse rises at its time, holds its width and has no period for a speed search to shorten', () => {
+    const w = wave('pulse(0V, 5V, at=10us, width=5us, edge=1us)');
+    expect(w.at(9e-6)).toBe(0);
+    expect(w.at(10.5e-6)).toBeCloseTo(2.5, 9);
+    expect(w.at(12e-6)).toBe(5);
+    expect(w.at(20e-6)).toBe(0);
+    expect(w.pulseStarts(1)).toHaveLength(1);
+    expect(w.pulseStarts(1)[0]).toBeCloseTo(10e-6, 15);
+    expect(w.period).toBeUndefined();
+    expect(w.withPeriod).toBeUndefined();
+  });
+
   it('points are joined by straight lines and held after the last', () => {
     const w = wave('points(0s 0V, 1ms 10V, 3ms -10V)');
     expect(w.at(0.5e-3)).toBeCloseTo(5, 12);
