@@ -167,6 +167,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--stray <FARADS>', "stray capacitance from every net to ground (default: the design's, 10pF unless set)")
     .option('--expect <NET=1,…>', 'states the watched nets must have at the end (exit 1 when not)')
     .option('--fastest', 'search for the fastest clock that still counts in worst case, and the stage that limits it')
+    .option('--probe <A,B,…>', 'more nets to record, any net of the design (a grid: bit0/q.g1), for --csv, --json and -o')
     .option('--csv <FILE>', 'write the waveforms of the watched nets and inputs to FILE')
     .option('-o, --output <FILE>', 'write an HTML page with the waveforms, states, delays and fastest clock')
     .option('--json', 'print the run as tubemargin.pulse/1 JSON, waveforms included')

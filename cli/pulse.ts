@@ -1,6 +1,7 @@
 import { stringify } from 'csv-stringify/sync';
 import {
   clockLimit,
+  designNets,
   parseQuantity,
   parseSequence,
   parseWaveform,
@@ -49,6 +50,7 @@ export interface PulseCliOptions extends GlobalOptions {
   expect?: string;
   fastest?: boolean;
   csv?: string;
+  probe?: string;
   output?: string;
   json?: boolean;
 }
@@ -82,6 +84,9 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
   const { design } = loaded;
+  const probes = options.probe?.split(',').map((n) => n.trim()).filter(Boolean) ?? [];
+  const allNets = new Set(designNets(design));
+  for (const p of probes) if (!allNets.has(p)) return usageError(io, `--probe names '${p}', which is no net of the design ('tubemargin show' lists them)`);
 
   let start: Map<string, number> | undefined;
   if (options.after !== undefined) {
@@ -133,19 +138,22 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
     limit = found;
   }
 
+  // The waveforms written: the driven inputs, the watched nets and any probed net.
+  const driven = design.parts.flatMap((p) => (p.type === 'drive' && inputs.has(p.name) ? [p.node] : []));
+  const recorded = [...new Set([...driven, ...r.nets, ...probes])];
   if (options.csv !== undefined) {
-    const code = writeCsv(options.csv, r, [...inputs.keys()].flatMap((name) => design.parts.filter((p) => p.type === 'drive' && p.name === name).map((p) => (p.type === 'drive' ? p.node : ''))), io);
+    const code = writeCsv(options.csv, r, recorded, io);
     if (code !== EXIT.ok) return code;
   }
   if (options.output !== undefined) {
-    const html = await renderPulseReport({ design, source: file, run: r, inputs: new Map([...inputs].map(([k, w]) => [k, w.text])), limit });
+    const html = await renderPulseReport({ design, source: file, run: r, inputs: new Map([...inputs].map(([k, w]) => [k, w.text])), limit, plotted: recorded });
     const failed = writeReport(options.output, html, io);
     if (failed !== undefined) return failed;
     io.stderr(`wrote ${options.output}\n`);
   }
   const ok = r.run.ok && misses.length === 0 && (!limit || limit.passing !== undefined);
   if (options.json) {
-    io.stdout(JSON.stringify(pulseJson(r, inputs, stop.value, misses, limit), null, 1) + '\n');
+    io.stdout(JSON.stringify(pulseJson(r, inputs, stop.value, misses, limit, recorded), null, 1) + '\n');
     return ok ? EXIT.ok : EXIT.failed;
   }
   io.stdout(pulseText(file, design.title, r, inputs, stop.value, misses, limit).join('\n') + '\n');
@@ -153,11 +161,10 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
   return ok ? EXIT.ok : EXIT.failed;
 }
 
-/** Writes time and every watched net's voltage (and the driven inputs') as CSV; refuses to overwrite a file that is not such a CSV. */
-function writeCsv(path: string, r: PulseRun, inputNets: string[], io: CliIo): number {
+/** Writes time and the voltage of each of `nets` as CSV; refuses to overwrite a file that is not such a CSV. */
+function writeCsv(path: string, r: PulseRun, nets: string[], io: CliIo): number {
   const refused = refuseToOverwrite(path, io, { mark: `${CSV_FIRST_COLUMN},`, what: 'a tubemargin waveform CSV' });
   if (refused !== undefined) return refused;
-  const nets = [...new Set([...inputNets, ...r.nets])];
   const traces = nets.map((n) => r.run.volts(n)!);
   const rows = r.run.times.map((t, i) => [t.toPrecision(9), ...traces.map((v) => v[i]!.toFixed(4))]);
   return writeReport(path, stringify([[CSV_FIRST_COLUMN, ...nets], ...rows]), io) ?? EXIT.ok;
@@ -166,7 +173,7 @@ function writeCsv(path: string, r: PulseRun, inputNets: string[], io: CliIo): nu
 const bits = (states: boolean[]) => states.map((s) => (s ? '1' : '0')).join('');
 const si = (x: number | undefined, unit: string) => (x === undefined ? '—' : formatSI(x, unit));
 
-function pulseJson(r: PulseRun, inputs: Map<string, Waveform>, stop: number, misses: { net: string; high: boolean }[], limit: ClockLimitResult | undefined) {
+function pulseJson(r: PulseRun, inputs: Map<string, Waveform>, stop: number, misses: { net: string; high: boolean }[], limit: ClockLimitResult | undefined, recorded: string[]) {
   return {
     schema: 'tubemargin.pulse/1',
     seconds: stop,
@@ -178,7 +185,7 @@ function pulseJson(r: PulseRun, inputs: Map<string, Waveform>, stop: number, mis
     stages: r.stages,
     expectations: { met: misses.length === 0, missed: misses },
     ...(limit ? { fastest: limitJson(limit) } : {}),
-    waves: { time: r.run.times, volts: Object.fromEntries(r.nets.map((n) => [n, Array.from(r.run.volts(n)!, (v) => Math.round(v * 1e4) / 1e4)])) },
+    waves: { time: r.run.times, volts: Object.fromEntries(recorded.map((n) => [n, Array.from(r.run.volts(n)!, (v) => Math.round(v * 1e4) / 1e4)])) },
   };
 }
 

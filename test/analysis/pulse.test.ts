@@ -204,6 +204,10 @@ describe('tubemargin pulse', () => {
     const lines = r.written['w.csv']!.trim().split('\n');
     expect(lines[0]).toBe('time_s,t,a,b');
     expect(lines.length).toBeGreaterThan(20);
+    // Any net can be probed, a grid or the steering node, for the waveforms.
+    const probed = await run(['pulse', 'b.tube', '--for', '50us', '--input', clock, '--csv', 'p.csv', '--nets', 'a', '--probe', 'ga,s'], files);
+    expect(probed.written['p.csv']!.split('\n')[0]).toBe('time_s,t,a,ga,s');
+    expect((await run(['pulse', 'b.tube', '--for', '50us', '--probe', 'nope'], files)).code).toBe(2);
     const refused = await run(['pulse', 'b.tube', '--for', '50us', '--input', clock, '--csv', 'mine.csv'], files);
     expect(refused.code).toBe(2);
     expect(refused.err).toMatch(/not a tubemargin waveform CSV/);
