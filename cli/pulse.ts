@@ -153,7 +153,7 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
   }
   const ok = r.run.ok && misses.length === 0 && (!limit || limit.passing !== undefined);
   if (options.json) {
-    io.stdout(JSON.stringify(pulseJson(r, inputs, stop.value, misses, limit, recorded), null, 1) + '\n');
+    io.stdout(JSON.stringify({ ...pulseJson(r, inputs, stop.value, misses, limit, recorded), cautions: safetyCautions(design) }, null, 1) + '\n');
     return ok ? EXIT.ok : EXIT.failed;
   }
   io.stdout(pulseText(file, design.title, r, inputs, stop.value, misses, limit).join('\n') + '\n');

@@ -214,6 +214,7 @@ describe('tubemargin pulse', () => {
     const json = await run(['pulse', 'b.tube', '--for', '150us', '--input', clock, '--json', '--nets', 'a,b'], files);
     const doc = JSON.parse(json.out);
     expect(doc.schema).toBe('tubemargin.pulse/1');
+    expect(doc.cautions.join(' ')).toMatch(/exceed 60 V/);
     expect(doc.pulses).toHaveLength(2);
     expect(doc.waves.time.length).toBe(doc.waves.volts.a.length);
   });
