@@ -111,7 +111,7 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
   const r = pulseDesign(design, settings);
   if (!('run' in r)) {
     // A drive or net the options name that the design lacks is a usage error, not the design's.
-    const ofOptions = r.diagnostics.filter((d) => d.code === 'unknown-part' || d.code === 'unknown-net');
+    const ofOptions = r.diagnostics.filter((d) => d.span === undefined && ['unknown-part', 'unknown-net', 'short-circuit'].includes(d.code));
     if (ofOptions.length > 0) {
       for (const d of ofOptions) usageError(io, d.message);
       return EXIT.badInput;

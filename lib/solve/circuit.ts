@@ -150,8 +150,10 @@ export function joinNets(design: Design, close: ReadonlySet<string> = new Set<st
     if (p.type === 'drive') {
       if (p.sourceOhms > 0) sources.push({ net: p.node, volts: p.volts, ohms: p.sourceOhms, drive: p.name });
       else {
+        const before = fixedNames.length;
         const f = fix(p.node, p.volts, `drive '${p.name}'`, p.span);
-        if (f !== undefined) driveFixed.set(p.name, f);
+        // Only a fixed voltage of its own: one it shares (a rail's, ground's) no waveform may move.
+        if (f !== undefined && f === before) driveFixed.set(p.name, f);
       }
     }
   }

@@ -100,7 +100,9 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
   const system = new DcSystem(c, options.linear);
   const n = c.n;
   const m = c.cA.length;
-  const driven = [...inputs].flatMap(([name, w]) => (c.driveFixed.has(name) ? [[c.driveFixed.get(name)!, w] as const] : []));
+  const stuck = [...inputs.keys()].filter((name) => !c.driveFixed.has(name));
+  if (stuck.length > 0) return { diagnostics: stuck.map((name) => error('short-circuit', `drive '${name}' shares its net with a rail, ground or another drive at the same level, so no waveform can move it`, undefined)) };
+  const driven = [...inputs].map(([name, w]) => [c.driveFixed.get(name)!, w] as const);
   const setInputs = (t: number) => {
     for (const [f, w] of driven) c.fixedVolts[f] = w.at(t);
   };

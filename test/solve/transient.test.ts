@@ -182,3 +182,10 @@ describe('the end of a run', () => {
   });
 });
 
+describe('drives in time', () => {
+  it('refuses a waveform on a drive that shares its net with a fixed voltage, rather than moving ground', () => {
+    const r = simulate(design(`drive IN (gnd) 0 V\nresistor R (gnd, x) 1 k\nrail hv = 10 V\nresistor R2 (hv, x) 1 k`), { stop: 1e-6, inputs: new Map([['IN', wave('points(0s 0V, 1us 5V)')]]) });
+    expect('diagnostics' in r && !('times' in r) ? r.diagnostics.map((d) => d.message).join() : '').toMatch(/shares its net/);
+  });
+});
+
