@@ -195,8 +195,8 @@ function limitJson(l: ClockLimitResult) {
 
 function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string, Waveform>, stop: number, misses: { net: string; high: boolean }[], limit: ClockLimitResult | undefined): string[] {
   const out = [`${title || '(untitled design)'} — ${file}`];
-  out.push(`Simulated ${si(stop, 's')} in ${r.run.accepted} steps (${r.run.rejected} taken again); trapezoidal rule, steps by truncation error.`);
-  for (const [name, w] of inputs) out.push(`  ${name} = ${w.text}`);
+  out.push(...wrap(`Simulated ${si(stop, 's')} in ${r.run.accepted} steps (${r.run.rejected} taken again): trapezoidal rule, steps by truncation error.`, 80, ''));
+  for (const [name, w] of inputs) out.push(...wrap(`${name} = ${w.text}`, 78, '  ').map((line) => `  ${line}`));
   if (!r.run.ok) out.push(...wrap(`The run stopped early: ${r.run.diagnostics.find((d) => d.severity === 'error')?.message ?? 'no reason given'}.`, 80, ''));
   out.push('Watched nets, in the order of the state column:');
   r.nets.forEach((n, i) => out.push(`  ${String(i + 1).padStart(2)}. ${n}`));

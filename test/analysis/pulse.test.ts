@@ -193,6 +193,8 @@ describe('tubemargin pulse', () => {
     expect(r.code).toBe(1);
     expect(r.out).toMatch(/Expected a=1 at the end, NOT met: latch a\/b flipped on no pulse/);
     expect(r.out).toMatch(/CAUTION/);
+    // The terminal report keeps to 80 columns.
+    for (const line of r.out.split('\n')) expect(line.length).toBeLessThanOrEqual(80);
     const ok = await run(['pulse', 'b.tube', '--for', '50us', '--input', clock, '--expect', 'a=1'], { 'b.tube': binary('220 pF') });
     expect(ok.code).toBe(0);
   });
