@@ -83,6 +83,21 @@ describe('the HTML report in a browser', () => {
     }, 120_000);
   }
 
+  it("pulse's page: the waveforms plotted and visible, the fastest clock's verdict, no console errors, no requests but the page", async () => {
+    const path = join(OUT, 'cap-counter-pulse.html');
+    const r = await cli(['pulse', 'nets/cap-counter.tube', '--for', '350us', '--input', 'HOPPER=clock(150V, 0V, period=100us, width=10%)', '--nets', 'q[3],q[2],q[1],q[0]', '--probe', 'bit0/steer', '--fastest', '-o', path]);
+    expect(r.code).toBe(0);
+    const { seen, errors, requests } = await open(path, path.replace(/\.html$/, '.png'));
+    expect(seen.title).toBe('Cap counter ripple binary');
+    expect(seen.verdict).toMatch(/^A period of .* counts as the given clock does in every corner\.$/);
+    expect(seen.plots).toBe(1);
+    expect(seen.visiblePlots).toBe(1);
+    expect(seen.scripts).toBe(0);
+    expect(seen.caution).toBe(1);
+    expect(errors).toEqual([]);
+    expect(requests.every((u) => u.startsWith('file://'))).toBe(true);
+  }, 120_000);
+
   it('escapes every name from the design: a title, nets and parts holding <script>, quotes and ampersands', async () => {
     const d = loadDesign('latch.tube', buttonLatchText('6AU6', 'screen bp;', '33 k', '220 k')).design!;
     const json = JSON.stringify(designToJson(d))
