@@ -17,7 +17,6 @@ export const DIAGNOSTIC_CODES = [
   // includes
   'include-not-found',
   'include-cycle',
-  'include-misplaced',
   // names
   'duplicate-name',
   'unknown-name',

@@ -3,6 +3,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { readDesignFile, type CliIo } from '../../cli/io.js';
 import { runCli } from '../../cli/main.js';
+import { DIAGNOSTIC_CODES } from '../../lib/index.js';
 import { ROOT } from '../helpers.js';
 
 const README = readFileSync(join(ROOT, 'README.md'), 'utf8');
@@ -63,5 +64,12 @@ describe('the README', () => {
       expect(code.length).toBeGreaterThan(3);
       for (const line of code) expect(text, `${file} lacks: ${line}`).toContain(squash(line));
     }
+  });
+});
+
+describe('docs/LANGUAGE.md', () => {
+  it('lists every diagnostic code the tool can give', () => {
+    const doc = readFileSync(join(ROOT, 'docs/LANGUAGE.md'), 'utf8');
+    expect(DIAGNOSTIC_CODES.filter((code) => !doc.includes(`\`${code}\``))).toEqual([]);
   });
 });
