@@ -163,7 +163,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--for <TIME>', 'how long to simulate: 300us, 2ms')
     .option('--nets <A,B,…>', 'the nets to watch (default: every logic net)')
     .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect, [])
-    .option('--after <SEQUENCE>', 'step through this sequence first and start from where it leaves the design')
+    .option('--after <FILE|TEXT>', 'step through this sequence (a file, or the actions) first and start from where it leaves the design')
     .option('--stray <FARADS>', "stray capacitance from every net to ground (default: the design's, 10pF unless set)")
     .option('--expect <NET=1,…>', 'states the watched nets must have at the end (exit 1 when not)')
     .option('--fastest', 'search for the fastest clock that still counts in worst case, and the stage that limits it')

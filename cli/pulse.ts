@@ -3,7 +3,6 @@ import {
   clockLimit,
   designNets,
   parseQuantity,
-  parseSequence,
   parseWaveform,
   pulseDesign,
   stepDesign,
@@ -20,6 +19,7 @@ import { safetyCautions } from '../lib/report/safety.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 import { refuseToOverwrite, writeReport } from './report.js';
+import { readSequence } from './step.js';
 
 export const PULSE_SUMMARY = 'simulate the design in time under input waveforms: states, delays, fastest clock';
 
@@ -90,14 +90,11 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
 
   let start: Map<string, number> | undefined;
   if (options.after !== undefined) {
-    const parsed = parseSequence('(--after)', options.after);
-    if (parsed.diagnostics.length > 0) {
-      report(parsed.diagnostics, new Map([...loaded.sources, ['(--after)', options.after]]), io);
-      return EXIT.badInput;
-    }
-    const stepped = stepDesign(design, parsed.value, { hints });
+    const sequence = readSequence(options.after, '--after', loaded.sources, io);
+    if (typeof sequence === 'number') return sequence;
+    const stepped = stepDesign(design, sequence.actions, { hints });
     if (!('rows' in stepped)) {
-      report(stepped.diagnostics, loaded.sources, io);
+      report(stepped.diagnostics, sequence.sources, io);
       return EXIT.badInput;
     }
     if (!stepped.ok || !stepped.final) {

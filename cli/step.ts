@@ -1,4 +1,4 @@
-import { checkMargins, parseSequence, stepDesign } from '../lib/index.js';
+import { checkMargins, parseSequence, stepDesign, type SequenceAction } from '../lib/index.js';
 import { table, wrap } from '../lib/report/format.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
@@ -22,34 +22,45 @@ export interface StepCliOptions extends GlobalOptions {
   json?: boolean;
 }
 
-export function runStep(file: string, options: StepCliOptions, io: CliIo): number {
-  if (!options.sequence) return usageError(io, 'give the sequence: --sequence FILE or --sequence "press START; expect on=1"');
-  const hints = readStates(options.hint ?? [], '--hint', io);
-  if (typeof hints === 'number') return hints;
-  const loaded = loadForCommand(file, io, options);
-  if (!loaded) return EXIT.badInput;
-  // A sequence is a file when one of that name can be read; otherwise it is the text itself.
-  let source = '(--sequence)';
-  let text = options.sequence;
+/**
+ * A sequence given to an option (`--sequence`, `pulse --after`): a file when one of that
+ * name can be read, otherwise the text itself. Returns its actions and the sources to
+ * render later diagnostics against, or the exit code of a problem (printed at line:col).
+ */
+export function readSequence(given: string, option: string, designSources: ReadonlyMap<string, string>, io: CliIo): { actions: SequenceAction[]; sources: Map<string, string> } | number {
+  let source = `(${option})`;
+  let text = given;
   try {
-    text = io.readFile(options.sequence);
-    source = options.sequence;
+    text = io.readFile(given);
+    source = given;
   } catch {
-    text = options.sequence;
+    text = given;
   }
-  const sources = new Map([...loaded.sources, [source, text]]);
+  const sources = new Map([...designSources, [source, text]]);
   const parsed = parseSequence(source, text);
   // A single word with a dot or a slash that could not be read was meant as a file name.
-  if (source === '(--sequence)' && parsed.diagnostics.length > 0 && /^[^\s;]*[./][^\s;]*$/.test(text.trim())) {
+  if (source === `(${option})` && parsed.diagnostics.length > 0 && /^[^\s;]*[./][^\s;]*$/.test(text.trim())) {
     return usageError(io, `cannot read the sequence file '${text.trim()}' (nor is it a sequence: actions are press, release, close, open, pulse, set, expect)`);
   }
   if (parsed.diagnostics.length > 0) {
     report(parsed.diagnostics, sources, io);
     return EXIT.badInput;
   }
+  return { actions: parsed.value, sources };
+}
+
+export function runStep(file: string, options: StepCliOptions, io: CliIo): number {
+  if (!options.sequence) return usageError(io, 'give the sequence: --sequence FILE or --sequence "press START; expect on=1"');
+  const hints = readStates(options.hint ?? [], '--hint', io);
+  if (typeof hints === 'number') return hints;
+  const loaded = loadForCommand(file, io, options);
+  if (!loaded) return EXIT.badInput;
+  const sequence = readSequence(options.sequence, '--sequence', loaded.sources, io);
+  if (typeof sequence === 'number') return sequence;
+  const { actions, sources } = sequence;
   const check = checkMargins(loaded.design);
   const nets = options.nets?.split(',').map((n) => n.trim()).filter(Boolean);
-  const r = stepDesign(loaded.design, parsed.value, { hints, nets, check: 'verdict' in check ? check : undefined });
+  const r = stepDesign(loaded.design, actions, { hints, nets, check: 'verdict' in check ? check : undefined });
   if (!('rows' in r)) {
     report(r.diagnostics, sources, io);
     return EXIT.badInput;

@@ -162,7 +162,7 @@ export function stageTimings(design: Design, graph: StageGraph, run: TransientRe
 
 /** The logic state of `nets` at time `t` of a run (the last point at or before it). */
 export function statesAt(design: Design, run: TransientResult, nets: readonly string[], t: number): boolean[] {
-  let i = 0;
-  while (i + 1 < run.times.length && run.times[i + 1]! <= t) i++;
+  const first = indexAt(run.times, t);
+  const i = run.times[first]! > t && first > 0 ? first - 1 : first;
   return nets.map((net) => run.volts(net)![i]! > logicThreshold(design, net));
 }

@@ -101,3 +101,29 @@ export function parseUnitSuffix(text: string): UnitSuffix | undefined {
   if (!after || rest === '%') return undefined;
   return { scale: mult * after.scale, dim: after.dim };
 }
+
+const PREFIXES: [number, string][] = [
+  [1e9, 'G'],
+  [1e6, 'M'],
+  [1e3, 'k'],
+  [1, ''],
+  [1e-3, 'm'],
+  [1e-6, 'µ'],
+  [1e-9, 'n'],
+  [1e-12, 'p'],
+  [1e-15, 'f'],
+];
+
+/**
+ * A value with an SI prefix (the reverse of reading a unit suffix) and three significant digits, the way a builder reads a part:
+ * `formatSI(33000, 'Ω')` is "33 kΩ", `formatSI(4.7e-11, 'F')` is "47 pF", `formatSI(-12, 'V')` is "-12 V".
+ */
+export function formatSI(value: number, unit: string): string {
+  if (!Number.isFinite(value)) return `${value} ${unit}`;
+  // Below a femto-unit nothing a builder measures is left: show it as zero.
+  if (Math.abs(value) < 1e-15) return `0 ${unit}`;
+  const abs = Math.abs(value);
+  const [scale, prefix] = PREFIXES.find(([s]) => abs >= s * 0.9995) ?? PREFIXES[PREFIXES.length - 1]!;
+  const shown = Number((value / scale).toPrecision(3));
+  return `${shown} ${prefix}${unit}`;
+}

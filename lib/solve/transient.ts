@@ -2,7 +2,7 @@ import type { Design, Part } from '../design/model.js';
 import type { Waveform } from '../analysis/waveform.js';
 import { DEFAULT_INTERELECTRODE, findLibraryEntry, type Interelectrode } from '../models/library.js';
 import type { SectionVariation } from '../models/tubeEquations.js';
-import { formatSI } from '../report/format.js';
+import { formatSI } from '../netlist/units.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import { compileCircuit, type Circuit } from './circuit.js';
 import { DcSystem, type NewtonSettings } from './dcSystem.js';

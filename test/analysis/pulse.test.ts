@@ -241,6 +241,17 @@ describe('tubemargin pulse', () => {
     expect(r.out).toMatch(/the state at the end \(50 µs\): 00101\n/);
   });
 
+  it('--after takes a sequence file as step does, and points a bad action at its line and column', async () => {
+    const args = ['pulse', 'nets/crate-tally.tube', '--for', '20us', '--nets', 'on[0],on[1]'];
+    const fromFile = await run([...args, '--after', 'docs/examples/crate-count.seq']);
+    expect(fromFile.code).toBe(0);
+    // The example ends with the lit position at 1.
+    expect(fromFile.out).toMatch(/the state at the end \(20 µs\): 01\n/);
+    const bad = await run([...args, '--after', 'pulse RESET; wiggle RESET']);
+    expect(bad.code).toBe(2);
+    expect(bad.err).toMatch(/\(--after\):1:14: error: not an action: 'wiggle RESET'/);
+  });
+
   it('bad options are usage errors (exit 2): no length, a bad waveform, a drive the design lacks', async () => {
     const files = { 'b.tube': binary('220 pF') };
     expect((await run(['pulse', 'b.tube', '--input', clock], files)).code).toBe(2);
