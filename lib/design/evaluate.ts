@@ -110,6 +110,15 @@ export interface Expectation {
   dim: Dimension;
   /** 'positive': > 0; 'non-negative': ≥ 0; 'any': any finite number. */
   sign: 'positive' | 'non-negative' | 'any';
+  /** The physical domain, inclusive, where a value outside it has no meaning (a model constant, a grid onset). */
+  range?: ValueRange;
+}
+
+/** An inclusive range of allowed values, with the unit symbol its message shows (`'V'`, `'Ω'`, `''`). */
+export interface ValueRange {
+  min: number;
+  max: number;
+  unit: string;
 }
 
 /**
@@ -128,14 +137,20 @@ export function evaluateAs(expr: Expr, scope: ValueScope, expect: Expectation, d
   return checkSign(q.value, expr.span, expect, diagnostics);
 }
 
-/** Checks a number is finite and of the required sign. */
-export function checkSign(value: number, span: SourceSpan | undefined, expect: Pick<Expectation, 'what' | 'sign'>, diagnostics: Diagnostic[]): number | undefined {
+/** Checks a number is finite, of the required sign and, when a range is given, within it. */
+export function checkSign(value: number, span: SourceSpan | undefined, expect: Pick<Expectation, 'what' | 'sign' | 'range'>, diagnostics: Diagnostic[]): number | undefined {
   if (!Number.isFinite(value)) {
     diagnostics.push(error('value-not-finite', `${expect.what} must be a finite number`, span));
     return undefined;
   }
   if ((expect.sign === 'positive' && value <= 0) || (expect.sign === 'non-negative' && value < 0)) {
     diagnostics.push(error('value-not-positive', `${expect.what} must be ${expect.sign === 'positive' ? 'greater than zero' : 'zero or more'}, not ${formatNumber(value)}`, span));
+    return undefined;
+  }
+  const r = expect.range;
+  if (r && (value < r.min || value > r.max)) {
+    const u = r.unit ? ` ${r.unit}` : '';
+    diagnostics.push(error('value-out-of-range', `${expect.what} of ${formatNumber(value)}${u} is outside ${formatNumber(r.min)}…${formatNumber(r.max)}${u}, the range it can physically take`, span));
     return undefined;
   }
   return value;

@@ -3,10 +3,10 @@ import { AMPS, DIMENSIONLESS, FARADS, OHMS, PERVEANCE, VOLTS, WATTS } from '../n
 import { error, warning, type Checked, type Diagnostic } from '../source/diagnostic.js';
 import { formatLocation, type SourceSpan } from '../source/span.js';
 import { didYouMean } from '../source/suggest.js';
-import { DEFAULT_SPREAD, GRID_DEFAULTS, MODEL_KINDS, MODEL_KIND_NAMES, isModelKind } from '../models/kinds.js';
+import { DEFAULT_SPREAD, GRID_DEFAULTS, GRID_RANGES, MODEL_KINDS, MODEL_KIND_NAMES, isModelKind } from '../models/kinds.js';
 import { TUBE_LIBRARY, findLibraryEntry } from '../models/library.js';
 import { evaluate, evaluateAs, evaluateInteger, evaluateTolerance, ValueScope, type Quantity } from './evaluate.js';
-import { CAPACITOR_TOL, DEFAULT_SETTINGS, DIODE_DEFAULTS, GROUND, type Design, type DesignSettings, type Part, type Rail, type StageRole, type TubeModel } from './model.js';
+import { CAPACITOR_TOL, DEFAULT_SETTINGS, DIODE_DEFAULTS, DIODE_RANGES, GROUND, type Design, type DesignSettings, type Part, type Rail, type StageRole, type TubeModel } from './model.js';
 
 /** How deeply block instances may nest inside each other. */
 export const MAX_BLOCK_DEPTH = 32;
@@ -267,11 +267,11 @@ class Expander {
       let v: number | undefined;
       const param = params.find((p) => p.name === field);
       if (param) {
-        v = evaluateAs(f.value, this.globals, { what: `${field} (${param.meaning})`, dim: param.unit === 'perveance' ? PERVEANCE : DIMENSIONLESS, sign: 'positive' }, d);
+        v = evaluateAs(f.value, this.globals, { what: `${field} (${param.meaning})`, dim: param.unit === 'perveance' ? PERVEANCE : DIMENSIONLESS, sign: 'positive', range: param.range }, d);
       } else if (field === 'rgi') {
-        v = evaluateAs(f.value, this.globals, { what: 'the grid input resistance rgi', dim: OHMS, sign: 'positive' }, d);
+        v = evaluateAs(f.value, this.globals, { what: 'the grid input resistance rgi', dim: OHMS, sign: 'positive', range: GRID_RANGES.rgi }, d);
       } else if (field === 'vgamma') {
-        v = evaluateAs(f.value, this.globals, { what: 'the grid-current onset vgamma', dim: VOLTS, sign: 'any' }, d);
+        v = evaluateAs(f.value, this.globals, { what: 'the grid-current onset vgamma', dim: VOLTS, sign: 'any', range: GRID_RANGES.vgamma }, d);
       } else if (field === 'spread') {
         v = evaluateTolerance(f.value, this.globals, 'a tube spread', d);
       } else {
@@ -282,7 +282,7 @@ class Expander {
       if (v === undefined) ok = false;
       else model[field] = v;
     }
-    const missing = params.filter((p) => model[p.name] === undefined).map((p) => p.name);
+    const missing = params.filter((p) => model[p.name] === undefined && !seen.has(p.name)).map((p) => p.name);
     if (missing.length > 0) {
       d.push(error('missing-field', `type '${st.name.text}' lacks ${missing.join(', ')} (a ${kind} model needs ${params.map((p) => p.name).join(', ')})`, st.name.span));
       ok = false;
@@ -543,11 +543,11 @@ class Expander {
           const key = f.name.text;
           const expect =
             key === 'is'
-              ? { what: 'a saturation current', dim: AMPS, sign: 'positive' as const }
+              ? { what: 'the saturation current is', dim: AMPS, sign: 'positive' as const, range: DIODE_RANGES.is }
               : key === 'n'
-                ? { what: 'an emission coefficient', dim: DIMENSIONLESS, sign: 'positive' as const }
+                ? { what: 'the emission coefficient n', dim: DIMENSIONLESS, sign: 'positive' as const, range: DIODE_RANGES.n }
                 : key === 'rs'
-                  ? { what: 'a series resistance', dim: OHMS, sign: 'non-negative' as const }
+                  ? { what: 'the series resistance rs', dim: OHMS, sign: 'non-negative' as const, range: DIODE_RANGES.rs }
                   : undefined;
           if (!expect) {
             d.push(error('unknown-field', `a diode has no parameter '${key}'`, f.name.span, [...didYouMean(key, ['is', 'n', 'rs']), 'parameters: is, n, rs']));

@@ -1,11 +1,11 @@
 import { error, type Checked, type Diagnostic } from '../source/diagnostic.js';
 import type { SourceSpan } from '../source/span.js';
 import { didYouMean } from '../source/suggest.js';
-import { DEFAULT_SPREAD, GRID_DEFAULTS, MODEL_KINDS, MODEL_KIND_NAMES } from '../models/kinds.js';
+import { DEFAULT_SPREAD, GRID_DEFAULTS, GRID_RANGES, MODEL_KINDS, MODEL_KIND_NAMES } from '../models/kinds.js';
 import { TUBE_LIBRARY, findLibraryEntry } from '../models/library.js';
 import { checkSign, checkTolerance } from './evaluate.js';
 import { parseJsonText } from './jsonText.js';
-import { CAPACITOR_TOL, DEFAULT_SETTINGS, DIODE_DEFAULTS, GROUND, partPins, type Design, type Part, type Rail, type TubeModel } from './model.js';
+import { CAPACITOR_TOL, DEFAULT_SETTINGS, DIODE_DEFAULTS, DIODE_RANGES, GROUND, partPins, type Design, type Part, type Rail, type TubeModel } from './model.js';
 import { SPANS, array, bool, literal, num, object, optional, str, variants, type Infer, type WithSpans } from './schema.js';
 
 /** The schema tag of the JSON design form. */
@@ -206,7 +206,8 @@ class JsonReader {
       return undefined;
     }
     const kind = base.kind as TubeModel['kind'];
-    const params = MODEL_KINDS[kind].parameters.map((p) => p.name);
+    const kindParams = MODEL_KINDS[kind].parameters;
+    const params = kindParams.map((p) => p.name);
     const out: Record<string, unknown> = { ...base, name, span };
     let ok = true;
     const fields = m as unknown as Record<string, unknown>;
@@ -218,12 +219,13 @@ class JsonReader {
         ok = false;
         continue;
       }
-      const x = checkSign(v as number, spanOf(m, key), { what: key, sign: 'positive' }, d);
+      const range = kindParams.find((p) => p.name === key)!.range;
+      const x = checkSign(v as number, spanOf(m, key), { what: key, sign: 'positive', range }, d);
       if (x === undefined) ok = false;
       else out[key] = x;
     }
-    if (m.rgi !== undefined) out.rgi = checkSign(m.rgi, spanOf(m, 'rgi'), { what: 'rgi', sign: 'positive' }, d) ?? (ok = false);
-    if (m.vgamma !== undefined) out.vgamma = checkSign(m.vgamma, spanOf(m, 'vgamma'), { what: 'vgamma', sign: 'any' }, d) ?? (ok = false);
+    if (m.rgi !== undefined) out.rgi = checkSign(m.rgi, spanOf(m, 'rgi'), { what: 'rgi', sign: 'positive', range: GRID_RANGES.rgi }, d) ?? (ok = false);
+    if (m.vgamma !== undefined) out.vgamma = checkSign(m.vgamma, spanOf(m, 'vgamma'), { what: 'vgamma', sign: 'any', range: GRID_RANGES.vgamma }, d) ?? (ok = false);
     if (m.spread !== undefined) out.spread = checkTolerance(m.spread, spanOf(m, 'spread'), 'a tube spread', d) ?? (ok = false);
     const missing = params.filter((p) => out[p] === undefined);
     if (missing.length > 0) {
@@ -260,9 +262,9 @@ class JsonReader {
         return { ...(rest as typeof p), volts, tol: t, sourceOhms, span };
       }
       case 'diode': {
-        const is = p.is === undefined ? DIODE_DEFAULTS.is : positive(p.is, 'is', 'a saturation current');
-        const n = p.n === undefined ? DIODE_DEFAULTS.n : positive(p.n, 'n', 'an emission coefficient');
-        const rs = p.rs === undefined ? DIODE_DEFAULTS.rs : checkSign(p.rs, spanOf(p, 'rs'), { what: 'a series resistance', sign: 'non-negative' }, d);
+        const is = p.is === undefined ? DIODE_DEFAULTS.is : checkSign(p.is, spanOf(p, 'is'), { what: 'the saturation current is', sign: 'positive', range: DIODE_RANGES.is }, d);
+        const n = p.n === undefined ? DIODE_DEFAULTS.n : checkSign(p.n, spanOf(p, 'n'), { what: 'the emission coefficient n', sign: 'positive', range: DIODE_RANGES.n }, d);
+        const rs = p.rs === undefined ? DIODE_DEFAULTS.rs : checkSign(p.rs, spanOf(p, 'rs'), { what: 'the series resistance rs', sign: 'non-negative', range: DIODE_RANGES.rs }, d);
         if (is === undefined || n === undefined || rs === undefined) return undefined;
         return { ...(rest as typeof p), is, n, rs, span };
       }

@@ -32,7 +32,7 @@ export function looksLikeJson(file: string, text: string): boolean {
  * Front end of every command: reads a design given as text or as JSON
  * (`tubemargin.design/1`), expands it and checks its wiring.
  *
- * Example: `loadDesign('a.tube', 'rail bp = 24 V').ok` is true, with one `empty-design` warning.
+ * Example: `loadDesign('a.tube', 'rail bp = 24 V').ok` is false, with one `empty-design` error.
  */
 export function loadDesign(file: string, text: string, options: LoadOptions = {}): LoadedDesign {
   let design: Design | undefined;

@@ -164,6 +164,19 @@ export const DEFAULT_SETTINGS: DesignSettings = { requiredMargin: 1, resistorTol
 /** Diodes that state no parameters: a small-signal silicon diode of the usual order (common practice, no source). */
 export const DIODE_DEFAULTS = { is: 1e-9, n: 1.8, rs: 10 };
 
+/**
+ * Where the diode constants have a meaning: saturation currents from a small silicon
+ * junction's femtoamps to a large germanium one's tens of microamps and beyond, emission
+ * coefficients of real junctions and vacuum diodes (1–2, a few for odd ones), series
+ * resistance up to a megohm (common practice, no source). Outside them the exponential
+ * law overflows or the part is no diode.
+ */
+export const DIODE_RANGES = {
+  is: { min: 1e-18, max: 1e-2, unit: 'A' },
+  n: { min: 0.5, max: 10, unit: '' },
+  rs: { min: 0, max: 1e6, unit: 'Ω' },
+} as const;
+
 /** Capacitors that state no tolerance get ±10 % (common practice, no source). */
 export const CAPACITOR_TOL = 0.1;
 

@@ -7,7 +7,8 @@ import { GROUND, partPins, type Design, type Part } from './model.js';
  * a net only one part touches (`net-single-connection`, a warning: usually a typo), a tube
  * grid with no DC path to a rail (`grid-no-dc-path`, an error: it would float), any other
  * node with no DC path (`node-no-dc-path`, a warning), pentode sections without a screen
- * and triodes given one, and a design with no parts.
+ * and triodes given one, and a design with no parts (`empty-design`, an error: there is
+ * nothing to solve, and a verdict on nothing would read as a pass).
  *
  * DC paths run through resistors, diodes and closed switches (a push button counts as
  * released); rails and driven inputs are fixed. Capacitors and tube sections carry no DC
@@ -17,7 +18,7 @@ export function validateDesign(design: Design, file: string): Diagnostic[] {
   const out: Diagnostic[] = [];
   if (design.parts.length === 0) {
     const at: SourceSpan = { file, start: { line: 1, col: 1, offset: 0 }, end: { line: 1, col: 1, offset: 0 } };
-    out.push(warning('empty-design', 'the design has no parts', at));
+    out.push(error('empty-design', 'the design has no parts: nothing to solve or check', at, ['a file of types and blocks only is read by `include` from a design that places them']));
     return out;
   }
   const fixed = new Set<string>([GROUND, ...design.rails.map((r) => r.name)]);

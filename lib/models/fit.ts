@@ -1,5 +1,6 @@
 import type { ModelKind, TubeModel } from '../design/model.js';
 import { NOMINAL_VARIATION, tubeCurrents } from './tubeEquations.js';
+import { MODEL_KINDS } from './kinds.js';
 
 /** One bench reading of one tube: electrode voltages against the cathode, and the currents measured. */
 export interface Reading {
@@ -121,6 +122,11 @@ export function fitReadings(readings: readonly Reading[], kind: ModelKind): FitA
   else {
     params.kg1 = params.kg1! / mean;
     if (kind === 'koren-pentode') params.kg2 = params.kg2! / mean;
+  }
+  // A fit that only matches by leaving the kind's physical domain describes no tube, and its type would not load.
+  for (const { name, range } of MODEL_KINDS[kind].parameters) {
+    const v = params[name]!;
+    if (!(v >= range.min && v <= range.max)) return { refusal: `the best ${kind} fit puts ${name} at ${v.toPrecision(3)}, outside ${range.min}…${range.max}, where the kind has a meaning: the readings do not describe such a tube` };
   }
   const plates = usable.map((r) => r.plateVolts);
   return {

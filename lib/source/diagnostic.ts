@@ -32,6 +32,7 @@ export const DIAGNOSTIC_CODES = [
   'unit-mismatch',
   'value-not-positive',
   'value-not-finite',
+  'value-out-of-range',
   'tolerance-range',
   'index-not-integer',
   'empty-range',

@@ -219,7 +219,7 @@ stage q { tube LP; load 10 k to bp; input q series 1 M pulldown 1 M to bias }`);
     expect(fixedBad.diagnostics[0]?.message).toContain('screen');
   });
 
-  it('warns of a design with no parts', () => {
+  it('refuses a design with no parts', () => {
     expect(codes(load('rail bp = 24 V').diagnostics)).toEqual(['empty-design']);
     expect(codes(load('').diagnostics)).toEqual(['empty-design']);
   });

@@ -8,9 +8,9 @@ import { codes, load } from '../helpers.js';
 const errorCodes = (text: string, files: Record<string, string> = {}) => codes(load(text, files).diagnostics.filter((d) => d.severity === 'error'));
 
 describe('limits, at their edge and one step past it', () => {
-  it('reads an empty file as an empty design', () => {
+  it('refuses an empty file: a design with nothing in it has nothing to pass', () => {
     const r = load('');
-    expect(r.ok).toBe(true);
+    expect(r.ok).toBe(false);
     expect(codes(r.diagnostics)).toEqual(['empty-design']);
   });
 
@@ -51,7 +51,7 @@ describe('limits, at their edge and one step past it', () => {
   });
 
   it(`parses ${MAX_EXPRESSION_DEPTH} nested parentheses, and refuses ${MAX_EXPRESSION_DEPTH + 1}`, () => {
-    const nested = (n: number) => `let x = ${'('.repeat(n)}1${')'.repeat(n)}`;
+    const nested = (n: number) => `let x = ${'('.repeat(n)}1${')'.repeat(n)}\nresistor R (x, gnd) 1 k`;
     expect(load(nested(MAX_EXPRESSION_DEPTH)).ok).toBe(true);
     expect(errorCodes(nested(MAX_EXPRESSION_DEPTH + 1))).toEqual(['nesting-too-deep']);
     expect(errorCodes(`let x = ${'-'.repeat(100_000)}1`)).toEqual(['nesting-too-deep']);
@@ -61,7 +61,7 @@ describe('limits, at their edge and one step past it', () => {
     const files = (n: number) => {
       const f: Record<string, string> = {};
       for (let k = 1; k < n; k++) f[`f${k}.tube`] = `include "f${k + 1}.tube"`;
-      f[`f${n}.tube`] = 'rail bp = 24 V';
+      f[`f${n}.tube`] = 'rail bp = 24 V\nresistor R (bp, gnd) 1 k';
       return f;
     };
     expect(load('include "f1.tube"', files(MAX_INCLUDE_DEPTH)).ok).toBe(true);
