@@ -3,6 +3,7 @@ import type { SectionVariation } from '../models/tubeEquations.js';
 import { buildStageGraph, type StageGraph } from '../graph/stageGraph.js';
 import { compileCircuit } from '../solve/circuit.js';
 import { DcSystem } from '../solve/dcSystem.js';
+import { withinSpan } from '../solve/voltageSpan.js';
 import { RESIDUAL_LIMIT, solveOperatingPoint, type OperatingPoint, type SolveOptions } from '../solve/operatingPoint.js';
 
 /**
@@ -54,7 +55,7 @@ export class HeldNet {
     const rails = [0, ...this.design.rails.map((r) => r.volts)];
     const maxStep = Math.min(20, Math.max(1, (Math.max(...rails) - Math.min(...rails)) / 10));
     const converged = this.system.newton(x, { gmin: 1e-12, sourceScale: 1, maxStep, maxIterations: 50 }).converged;
-    return converged && this.system.trueResidual(x) <= RESIDUAL_LIMIT ? x : undefined;
+    return converged && this.system.trueResidual(x) <= RESIDUAL_LIMIT && withinSpan(c, x) ? x : undefined;
   }
 
   /** Every net's voltage in a solution of this design. */

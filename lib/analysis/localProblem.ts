@@ -3,6 +3,7 @@ import { NOMINAL_VARIATION, P, type SectionVariation } from '../models/tubeEquat
 import { compileCircuit, type Circuit } from '../solve/circuit.js';
 import { DcSystem, type NewtonSettings } from '../solve/dcSystem.js';
 import { RESIDUAL_LIMIT } from '../solve/operatingPoint.js';
+import { withinSpan } from '../solve/voltageSpan.js';
 import { emissionBand, type AgeingScenario } from './ageing.js';
 import { localDesign } from './localDesign.js';
 import type { Region } from './region.js';
@@ -144,7 +145,7 @@ export class LocalProblem {
     this.apply(values);
     const sys = this.system;
     const x = this.x;
-    if (this.warm && sys.newton(x, this.settings).converged && sys.trueResidual(x) <= RESIDUAL_LIMIT) return true;
+    if (this.warm && sys.newton(x, this.settings).converged && this.accepted(sys.trueResidual(x))) return true;
     sys.devicesOff(x, this.settings);
     let ok = sys.newton(x, this.settings).converged;
     if (!ok) {
@@ -152,8 +153,13 @@ export class LocalProblem {
       sys.devicesOff(x, this.settings);
       ok = [1e-3, 1e-5, 1e-7, 1e-9, 1e-12].every((gmin) => sys.newton(x, { ...this.settings, gmin, maxIterations: 200 }).converged);
     }
-    this.warm = ok && sys.trueResidual(x) <= RESIDUAL_LIMIT;
+    this.warm = ok && this.accepted(sys.trueResidual(x));
     return this.warm;
+  }
+
+  /** A solution is accepted on the residual limit and inside the span of the fixed voltages in force (see `voltageSpan`). */
+  private accepted(residualAmps: number): boolean {
+    return residualAmps <= RESIDUAL_LIMIT && withinSpan(this.circuit, this.x);
   }
 
   /**
@@ -172,12 +178,12 @@ export class LocalProblem {
       // bounds the real circuit's: no second assembly unless that bound exceeds 1 nA.
       let largest = 0;
       for (let i = 0; i < x.length; i++) largest = Math.max(largest, Math.abs(x[i]!));
-      if (first.residual + this.settings.gmin * largest <= RESIDUAL_LIMIT) return (this.warm = true);
-      return (this.warm = sys.trueResidual(x) <= RESIDUAL_LIMIT);
+      if (first.residual + this.settings.gmin * largest <= RESIDUAL_LIMIT) return (this.warm = this.accepted(0));
+      return (this.warm = this.accepted(sys.trueResidual(x)));
     }
     x.set(start);
     const ok = [1e-6, 1e-8, 1e-10, 1e-12].every((gmin) => sys.newton(x, { ...this.settings, gmin, maxIterations: 200 }).converged);
-    this.warm = ok && sys.trueResidual(x) <= RESIDUAL_LIMIT;
+    this.warm = ok && this.accepted(sys.trueResidual(x));
     return this.warm;
   }
 

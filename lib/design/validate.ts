@@ -82,6 +82,8 @@ export function validateDesign(design: Design, file: string): Diagnostic[] {
     }
   }
 
+  out.push(...switchShorts(design));
+
   // Screens.
   const models = new Map(design.models.map((m) => [m.name, m]));
   for (const p of design.parts) {
@@ -94,6 +96,45 @@ export function validateDesign(design: Design, file: string): Diagnostic[] {
     if (m.kind !== 'koren-pentode' && p.screen !== undefined) {
       out.push(error('unknown-port', `section '${p.name}' is a triode (${m.name}) and has no screen`, p.span));
     }
+  }
+  return out;
+}
+
+/**
+ * Switches and buttons that, closed on their own, join two stiff sources at different
+ * voltages (a button from a stiff drive's net to ground, a switch across two rails): the
+ * contact would carry unbounded current, so no solve of that position exists. It is a
+ * wiring error, usually a drive or rail that lacks its source resistance. Switches the
+ * design already closes are judged with the others closed, as the solver joins them.
+ */
+function switchShorts(design: Design): Diagnostic[] {
+  const parent = new Map<string, string>();
+  const find = (x: string): string => {
+    let r = x;
+    while (parent.has(r)) r = parent.get(r)!;
+    return r;
+  };
+  const switches = design.parts.filter((p): p is Extract<Part, { type: 'switch' }> => p.type === 'switch');
+  for (const p of switches) if (p.closed && find(p.a) !== find(p.b)) parent.set(find(p.a), find(p.b));
+  // The stiff source on each group of joined nets: what holds it, and at what level.
+  const held = new Map<string, { volts: number; what: string }>();
+  const hold = (net: string, volts: number, what: string) => {
+    if (!held.has(find(net))) held.set(find(net), { volts, what });
+  };
+  hold(GROUND, 0, 'ground');
+  for (const r of design.rails) if (r.sourceOhms === 0) hold(r.name, r.volts, `rail ${r.name}`);
+  for (const p of design.parts) if (p.type === 'drive' && p.sourceOhms === 0) hold(p.node, p.volts, `drive '${p.name}'`);
+  const out: Diagnostic[] = [];
+  for (const p of switches) {
+    if (p.closed) continue;
+    const a = held.get(find(p.a));
+    const b = held.get(find(p.b));
+    if (!a || !b || a.volts === b.volts) continue;
+    out.push(
+      error('short-circuit', `${p.momentary ? 'pressing' : 'closing'} ${p.momentary ? 'button' : 'switch'} '${p.name}' would short ${a.what} (${a.volts} V) to ${b.what} (${b.volts} V)`, p.span, [
+        'give the drive or rail a source resistance (`source 4.7 k`), or put a resistor in series with the contact',
+      ]),
+    );
   }
   return out;
 }

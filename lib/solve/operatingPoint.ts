@@ -6,6 +6,7 @@ import { error, warning, type Diagnostic } from '../source/diagnostic.js';
 import { compileCircuit, type Circuit, type CompileOptions } from './circuit.js';
 import { DcSystem, type NewtonSettings } from './dcSystem.js';
 import type { LinearSystemFactory } from './linearSystem.js';
+import { nodesOutsideSpan, voltageSpan } from './voltageSpan.js';
 
 /** The logic state asked of a net: 1 high, 0 low. */
 export interface StateHint {
@@ -134,7 +135,9 @@ function pullUpVolts(design: Design): (net: string) => number {
  * each other is reported as undecided (the metastable point), never as a state.
  *
  * After every solve the KCL residual of the real circuit is checked at every node: above
- * 1 nA the result is marked not converged, with the nets that would not settle.
+ * 1 nA the result is marked not converged, with the nets that would not settle. So is a
+ * solution with a node outside the span of the fixed voltages (`voltageSpan`), which no
+ * circuit of passive parts can reach.
  */
 export function solveOperatingPoint(design: Design, options: SolveOptions = {}): OperatingPoint | { diagnostics: Diagnostic[] } {
   let system = options.system;
@@ -208,6 +211,19 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
       ]),
     );
     converged = false;
+  } else {
+    // A solution that meets KCL but leaves the span of the fixed voltages comes from a
+    // device law gone wrong, never from a circuit: it is not reported as a state.
+    const outside = nodesOutsideSpan(c, x);
+    if (outside.length > 0) {
+      const span = voltageSpan(c);
+      diagnostics.push(
+        error('no-convergence', `the operating point left the span of the fixed voltages (${span.low.toFixed(2)} to ${span.high.toFixed(2)} V), which no DC solution can`, undefined, [
+          `nets outside it: ${outside.slice(0, 5).join(', ')}${outside.length > 5 ? ` and ${outside.length - 5} more` : ''}`,
+        ]),
+      );
+      converged = false;
+    }
   }
   const nodes = new Map<string, number>();
   const volt = (t: number) => (t >= 0 ? x[t]! : c.fixedVolts[-1 - t]!);

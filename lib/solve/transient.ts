@@ -5,6 +5,7 @@ import type { SectionVariation } from '../models/tubeEquations.js';
 import { formatSI } from '../netlist/units.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import { compileCircuit, type Circuit } from './circuit.js';
+import { nodesOutsideSpan, transientSpan } from './voltageSpan.js';
 import { DcSystem, type NewtonSettings } from './dcSystem.js';
 import type { LinearSystemFactory } from './linearSystem.js';
 import { solveOperatingPoint, type StateHint } from './operatingPoint.js';
@@ -257,8 +258,18 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
       }
     }
   }
-  const ok = t >= stop * (1 - 1e-12);
+  let ok = t >= stop * (1 - 1e-12);
   if (!ok && !diagnostics.some((d) => d.severity === 'error')) diagnostics.push(error('no-convergence', `the simulation stopped at ${formatSI(t, 's')} after ${accepted} steps (the limit)`, undefined));
+  const bound = transientSpan(c, fixedStates);
+  const strayed = states.findIndex((s) => nodesOutsideSpan(c, s, bound).length > 0);
+  if (strayed >= 0) {
+    ok = false;
+    diagnostics.push(
+      error('no-convergence', `the simulation left the span a run in time can reach (${bound.low.toFixed(1)} to ${bound.high.toFixed(1)} V) at ${formatSI(times[strayed]!, 's')}: its results are not a solution`, undefined, [
+        `nets outside it: ${nodesOutsideSpan(c, states[strayed]!, bound).slice(0, 5).join(', ')}`,
+      ]),
+    );
+  }
   const traces = new Map<string, Float64Array>();
   return {
     times,
