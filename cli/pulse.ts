@@ -16,6 +16,7 @@ import { FARADS, SECONDS } from '../lib/netlist/units.js';
 import { formatSI, table, wrap } from '../lib/report/format.js';
 import { renderPulseReport } from '../lib/report/htmlReport.js';
 import { safetyCautions } from '../lib/report/safety.js';
+import { figure } from '../lib/report/figure.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 import { refuseToOverwrite, writeReport } from './report.js';
@@ -187,7 +188,16 @@ function pulseJson(r: PulseRun, inputs: Map<string, Waveform>, stop: number, mis
 }
 
 function limitJson(l: ClockLimitResult) {
-  return { givenPeriod: l.givenPeriod, passingPeriod: l.passing ?? null, failing: l.failing ?? null, limitingStage: l.limiting ?? null, slowest: l.slowest, runs: l.runs };
+  return {
+    givenPeriod: l.givenPeriod,
+    ...figure('passingPeriod', l.passing, 'the clock fails even at the period given: no passing period was found'),
+    failing: l.failing ?? null,
+    ...(l.failing ? {} : { failingWhy: 'every period tried passed: no failing period was found within the search' }),
+    limitingStage: l.limiting ?? null,
+    ...(l.limiting ? {} : { limitingStageWhy: l.passing === undefined ? 'no passing period to time the stages at' : 'no stage could be named as the one that limits the clock' }),
+    slowest: l.slowest,
+    runs: l.runs,
+  };
 }
 
 function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string, Waveform>, stop: number, misses: { net: string; high: boolean }[], limit: ClockLimitResult | undefined): string[] {

@@ -24,6 +24,7 @@ export { DESIGN_SCHEMA, designFromJson, designToJson, designJsonSchema, type Des
 export { loadDesign, looksLikeJson, type LoadedDesign, type LoadOptions } from './design/load.js';
 
 export { MODEL_KINDS, MODEL_KIND_NAMES } from './models/kinds.js';
+export { WHY_SUFFIX, figure } from './report/figure.js';
 export { TUBE_LIBRARY, findLibraryEntry, type LibraryEntry, type TubeRatings } from './models/library.js';
 
 export { stronglyConnected } from './graph/tarjan.js';

@@ -259,6 +259,18 @@ function judgeNet(
   const cutoff = net.polarity === 'input' ? undefined : cutoffMargin(chain, name);
   const drive = net.polarity === 'input' ? undefined : driveMargin(chain, name);
   const v = (x: number) => `${x.toFixed(2)} V`;
+  // A state whose level the solver could not find is a failure to vouch for the net, said
+  // as such; it is not a level, so none of the comparisons below may read it as one.
+  for (const [state, l] of [['high', high], ['low', low]] as const) {
+    if (l && !(Number.isFinite(l.nominal) && Number.isFinite(l.worst))) {
+      reasons.push(`no solution was found for its ${state} state ${Number.isFinite(l.nominal) ? 'at its worst corner' : 'even at nominal values'}: the local solve did not converge, so nothing vouches for that level`);
+    }
+  }
+  if (reasons.length > 0) {
+    // The worst end of an unsolved state is no level at all (the chain leaves a rail's end there): not a number, not a rail.
+    const unsolved = (l: typeof high) => l && (Number.isFinite(l.nominal) && Number.isFinite(l.worst) ? l : { nominal: Number.isFinite(l.nominal) ? l.nominal : NaN, worst: NaN });
+    return { ...base, high: unsolved(high), low: unsolved(low), margin: { high: undefined, low: undefined }, cutoffMargin: undefined, driveMargin: undefined, headroom: undefined, status: 'fail', reasons, weakest: undefined, slack: -Infinity };
+  }
   if (high && low && high.worst <= low.worst) {
     const consequence = inLoop.has(name) ? 'it cannot hold a state' : 'its high cannot be told from its low';
     reasons.push(`its high and low levels collapse (worst high ${v(high.worst)}, worst low ${v(low.worst)}): ${consequence}`);

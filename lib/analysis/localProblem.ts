@@ -70,12 +70,22 @@ export class LocalProblem {
   private readonly x: Float64Array;
   private warm = false;
   private readonly settings: NewtonSettings;
+  /** The case's contacts short a boundary to a rail in this cut: it has no solution. */
+  private readonly shorted: boolean = false;
 
   constructor(design: Design, region: Region, scenario: AgeingScenario, close: ReadonlySet<string> = new Set()) {
     const local = localDesign(design, region).design;
     const variation = new Map<string, SectionVariation>();
     if (scenario.interfaceOhms > 0) for (const p of region.parts) if (p.type === 'tube') variation.set(p.name, { ...NOMINAL_VARIATION, cathodeOhms: NO_INTERFACE_OHMS });
-    const compiled = compileCircuit(local, { close, variation });
+    // A contact closed in this case can tie a boundary net, held stiff here, to a rail (a plate
+    // joined through a closed switch to a net a button pulls to a rail): the whole design
+    // compiles, the local cut of it does not. Such a case has no local solution; the problem
+    // is built without the contacts so that its callers get "no solution", never a throw.
+    let compiled = compileCircuit(local, { close, variation });
+    if (!compiled.circuit && close.size > 0) {
+      this.shorted = true;
+      compiled = compileCircuit(local, { variation });
+    }
     if (!compiled.circuit) throw new Error(`local problem of ${region.targets.join(', ')} does not compile: ${compiled.diagnostics.map((d) => d.message).join('; ')}`);
     const c = compiled.circuit;
     this.circuit = c;
@@ -142,6 +152,7 @@ export class LocalProblem {
 
   /** Solves at `values`, from the last solution when there is one; false when no solution meets the residual limit. */
   solve(values: ArrayLike<number>): boolean {
+    if (this.shorted) return false;
     this.apply(values);
     const sys = this.system;
     const x = this.x;
@@ -168,6 +179,7 @@ export class LocalProblem {
    * devices-off guess, which could land in another state. False when neither converges.
    */
   solveFrom(values: ArrayLike<number>, start: Float64Array): boolean {
+    if (this.shorted) return false;
     this.apply(values);
     const sys = this.system;
     const x = this.x;

@@ -1,6 +1,10 @@
 import type { Expr } from '../netlist/ast.js';
 import {
   DIMENSIONLESS,
+  FARADS,
+  OHMS,
+  VOLTS,
+  WATTS,
   describeDimension,
   isDimensionless,
   multiplyDimensions,
@@ -119,6 +123,8 @@ export interface ValueRange {
   min: number;
   max: number;
   unit: string;
+  /** 0 is allowed too, where the place takes it (a stiff supply's source resistance). */
+  zeroAllowed?: boolean;
 }
 
 /**
@@ -134,8 +140,28 @@ export function evaluateAs(expr: Expr, scope: ValueScope, expect: Expectation, d
     );
     return undefined;
   }
-  return checkSign(q.value, expr.span, expect, diagnostics);
+  return checkSign(q.value, expr.span, { ...expect, range: expect.range ?? rangeOfDimension(expect.dim) }, diagnostics);
 }
+
+/**
+ * Where a part's value has a meaning, by its unit, for values that state no range of their
+ * own: resistances from a milliohm (a contact, a wire) to a teraohm (leakage), voltages
+ * within ±100 kV, capacitances from an attofarad to a farad, power ratings from a
+ * microwatt to 100 kW (common practice, no source). A zero allowed by the place (a source
+ * resistance of 0 for a stiff supply) stays allowed. Outside them no tube logic is meant,
+ * and the arithmetic of a solve (a conductance of 1/1e-308) overflows.
+ */
+export function rangeOfDimension(dim: Dimension): ValueRange | undefined {
+  for (const [d, range] of DIMENSION_RANGES) if (sameDimension(d, dim)) return range;
+  return undefined;
+}
+
+const DIMENSION_RANGES: [Dimension, ValueRange][] = [
+  [OHMS, { min: 1e-3, max: 1e12, unit: 'Ω', zeroAllowed: true }],
+  [VOLTS, { min: -1e5, max: 1e5, unit: 'V' }],
+  [FARADS, { min: 1e-18, max: 1, unit: 'F', zeroAllowed: true }],
+  [WATTS, { min: 1e-6, max: 1e5, unit: 'W' }],
+];
 
 /** Checks a number is finite, of the required sign and, when a range is given, within it. */
 export function checkSign(value: number, span: SourceSpan | undefined, expect: Pick<Expectation, 'what' | 'sign' | 'range'>, diagnostics: Diagnostic[]): number | undefined {
@@ -148,7 +174,7 @@ export function checkSign(value: number, span: SourceSpan | undefined, expect: P
     return undefined;
   }
   const r = expect.range;
-  if (r && (value < r.min || value > r.max)) {
+  if (r && (value < r.min || value > r.max) && !(value === 0 && r.zeroAllowed)) {
     const u = r.unit ? ` ${r.unit}` : '';
     diagnostics.push(error('value-out-of-range', `${expect.what} of ${formatNumber(value)}${u} is outside ${formatNumber(r.min)}…${formatNumber(r.max)}${u}, the range it can physically take`, span));
     return undefined;

@@ -3,7 +3,8 @@ import type { SourceSpan } from '../source/span.js';
 import { didYouMean } from '../source/suggest.js';
 import { DEFAULT_SPREAD, GRID_DEFAULTS, GRID_RANGES, MODEL_KINDS, MODEL_KIND_NAMES } from '../models/kinds.js';
 import { TUBE_LIBRARY, findLibraryEntry } from '../models/library.js';
-import { checkSign, checkTolerance } from './evaluate.js';
+import { checkSign, checkTolerance, rangeOfDimension } from './evaluate.js';
+import { FARADS, OHMS, VOLTS, WATTS, type Dimension } from '../netlist/units.js';
 import { parseJsonText } from './jsonText.js';
 import { CAPACITOR_TOL, DEFAULT_SETTINGS, DIODE_DEFAULTS, DIODE_RANGES, GROUND, partPins, type Design, type Part, type Rail, type TubeModel } from './model.js';
 import { SPANS, array, bool, literal, num, object, optional, str, variants, type Infer, type WithSpans } from './schema.js';
@@ -128,10 +129,10 @@ class JsonReader {
   read(json: DesignJson): Design {
     const d = this.diagnostics;
     const settings = { ...DEFAULT_SETTINGS };
-    if (json.requiredMargin !== undefined) settings.requiredMargin = checkSign(json.requiredMargin, spanOf(json, 'requiredMargin'), { what: 'requiredMargin', sign: 'positive' }, d) ?? settings.requiredMargin;
+    if (json.requiredMargin !== undefined) settings.requiredMargin = checkSign(json.requiredMargin, spanOf(json, 'requiredMargin'), { what: 'requiredMargin', sign: 'positive', range: rangeOfDimension(VOLTS) }, d) ?? settings.requiredMargin;
     if (json.defaults?.tol !== undefined) settings.resistorTol = checkTolerance(json.defaults.tol, spanOf(json.defaults, 'tol'), 'defaults.tol', d) ?? settings.resistorTol;
-    if (json.defaults?.strayFarads !== undefined) settings.strayFarads = checkSign(json.defaults.strayFarads, spanOf(json.defaults, 'strayFarads'), { what: 'defaults.strayFarads', sign: 'non-negative' }, d) ?? settings.strayFarads;
-    if (json.defaults?.watts !== undefined) settings.resistorWatts = checkSign(json.defaults.watts, spanOf(json.defaults, 'watts'), { what: 'defaults.watts', sign: 'positive' }, d) ?? settings.resistorWatts;
+    if (json.defaults?.strayFarads !== undefined) settings.strayFarads = checkSign(json.defaults.strayFarads, spanOf(json.defaults, 'strayFarads'), { what: 'defaults.strayFarads', sign: 'non-negative', range: rangeOfDimension(FARADS) }, d) ?? settings.strayFarads;
+    if (json.defaults?.watts !== undefined) settings.resistorWatts = checkSign(json.defaults.watts, spanOf(json.defaults, 'watts'), { what: 'defaults.watts', sign: 'positive', range: rangeOfDimension(WATTS) }, d) ?? settings.resistorWatts;
 
     const rails: Rail[] = [];
     for (const r of json.rails ?? []) {
@@ -139,9 +140,9 @@ class JsonReader {
       if (r.name === GROUND) d.push(error('reserved-name', `'${GROUND}' is the 0 V rail and always exists`, spanOf(r, 'name')));
       else if (rails.some((x) => x.name === r.name)) d.push(error('duplicate-name', `rail '${r.name}' is defined twice`, spanOf(r, 'name')));
       else {
-        const volts = checkSign(r.volts, spanOf(r, 'volts'), { what: 'a rail voltage', sign: 'any' }, d) ?? 0;
+        const volts = checkSign(r.volts, spanOf(r, 'volts'), { what: 'a rail voltage', sign: 'any', range: rangeOfDimension(VOLTS) }, d) ?? 0;
         const tol = r.tol === undefined ? 0 : (checkTolerance(r.tol, spanOf(r, 'tol'), 'a rail tolerance', d) ?? 0);
-        const sourceOhms = r.sourceOhms === undefined ? 0 : (checkSign(r.sourceOhms, spanOf(r, 'sourceOhms'), { what: 'a source resistance', sign: 'non-negative' }, d) ?? 0);
+        const sourceOhms = r.sourceOhms === undefined ? 0 : (checkSign(r.sourceOhms, spanOf(r, 'sourceOhms'), { what: 'a source resistance', sign: 'non-negative', range: rangeOfDimension(OHMS) }, d) ?? 0);
         rails.push({ name: r.name, volts, tol, sourceOhms, span });
       }
     }
@@ -237,27 +238,27 @@ class JsonReader {
 
   private readPart(p: DesignJson['parts'][number], settings: Design['settings'], span: SourceSpan | undefined): Part | undefined {
     const d = this.diagnostics;
-    const positive = (v: number, key: string, what: string) => checkSign(v, spanOf(p, key), { what, sign: 'positive' }, d);
+    const positive = (v: number, key: string, what: string, dim: Dimension) => checkSign(v, spanOf(p, key), { what, sign: 'positive', range: rangeOfDimension(dim) }, d);
     const tol = (v: number | undefined, key: string, fallback: number) => (v === undefined ? fallback : checkTolerance(v, spanOf(p, key), 'a tolerance', d));
     const { [SPANS]: _spans, ...rest } = p as WithSpans<typeof p>;
     switch (p.type) {
       case 'resistor': {
-        const ohms = positive(p.ohms, 'ohms', 'a resistance');
+        const ohms = positive(p.ohms, 'ohms', 'a resistance', OHMS);
         const t = tol(p.tol, 'tol', settings.resistorTol);
-        const watts = p.watts === undefined ? settings.resistorWatts : positive(p.watts, 'watts', 'a power rating');
+        const watts = p.watts === undefined ? settings.resistorWatts : positive(p.watts, 'watts', 'a power rating', WATTS);
         if (ohms === undefined || t === undefined || watts === undefined) return undefined;
         return { ...(rest as typeof p), ohms, tol: t, watts, span };
       }
       case 'capacitor': {
-        const farads = positive(p.farads, 'farads', 'a capacitance');
+        const farads = positive(p.farads, 'farads', 'a capacitance', FARADS);
         const t = tol(p.tol, 'tol', CAPACITOR_TOL);
         if (farads === undefined || t === undefined) return undefined;
         return { ...(rest as typeof p), farads, tol: t, span };
       }
       case 'drive': {
-        const volts = checkSign(p.volts, spanOf(p, 'volts'), { what: 'a drive level', sign: 'any' }, d);
+        const volts = checkSign(p.volts, spanOf(p, 'volts'), { what: 'a drive level', sign: 'any', range: rangeOfDimension(VOLTS) }, d);
         const t = tol(p.tol, 'tol', 0);
-        const sourceOhms = p.sourceOhms === undefined ? 0 : checkSign(p.sourceOhms, spanOf(p, 'sourceOhms'), { what: 'a source resistance', sign: 'non-negative' }, d);
+        const sourceOhms = p.sourceOhms === undefined ? 0 : checkSign(p.sourceOhms, spanOf(p, 'sourceOhms'), { what: 'a source resistance', sign: 'non-negative', range: rangeOfDimension(OHMS) }, d);
         if (volts === undefined || t === undefined || sourceOhms === undefined) return undefined;
         return { ...(rest as typeof p), volts, tol: t, sourceOhms, span };
       }

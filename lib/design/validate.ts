@@ -118,13 +118,15 @@ function switchShorts(design: Design): Diagnostic[] {
   for (const p of switches) if (p.closed && find(p.a) !== find(p.b)) parent.set(find(p.a), find(p.b));
   // The stiff source on each group of joined nets: what holds it, and at what level.
   const held = new Map<string, { volts: number; what: string }>();
-  const hold = (net: string, volts: number, what: string) => {
-    if (!held.has(find(net))) held.set(find(net), { volts, what });
+  const out: Diagnostic[] = [];
+  const hold = (net: string, volts: number, what: string, span?: SourceSpan) => {
+    const have = held.get(find(net));
+    if (!have) held.set(find(net), { volts, what });
+    else if (have.volts !== volts) out.push(error('short-circuit', `short circuit: ${what} (${volts} V) and ${have.what} (${have.volts} V) hold net '${net}' at different voltages`, span, ['a closed switch or a shared net joins them; give one a source resistance']));
   };
   hold(GROUND, 0, 'ground');
-  for (const r of design.rails) if (r.sourceOhms === 0) hold(r.name, r.volts, `rail ${r.name}`);
-  for (const p of design.parts) if (p.type === 'drive' && p.sourceOhms === 0) hold(p.node, p.volts, `drive '${p.name}'`);
-  const out: Diagnostic[] = [];
+  for (const r of design.rails) if (r.sourceOhms === 0) hold(r.name, r.volts, `rail ${r.name}`, r.span);
+  for (const p of design.parts) if (p.type === 'drive' && p.sourceOhms === 0) hold(p.node, p.volts, `drive '${p.name}'`, p.span);
   for (const p of switches) {
     if (p.closed) continue;
     const a = held.get(find(p.a));

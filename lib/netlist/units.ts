@@ -119,7 +119,9 @@ const PREFIXES: [number, string][] = [
  * `formatSI(33000, 'Ω')` is "33 kΩ", `formatSI(4.7e-11, 'F')` is "47 pF", `formatSI(-12, 'V')` is "-12 V".
  */
 export function formatSI(value: number, unit: string): string {
-  if (!Number.isFinite(value)) return `${value} ${unit}`;
+  // A figure that does not exist reads as a dash, never as NaN or Infinity; callers that know why say so in words beside it.
+  if (Number.isNaN(value)) return '—';
+  if (!Number.isFinite(value)) return value > 0 ? `beyond any ${unit}` : `below any ${unit}`;
   // Below a femto-unit nothing a builder measures is left: show it as zero.
   if (Math.abs(value) < 1e-15) return `0 ${unit}`;
   const abs = Math.abs(value);

@@ -6,6 +6,7 @@ import type { ShrinkResult } from '../analysis/shrink.js';
 import { DERATING, type Ratings } from '../analysis/ratings.js';
 import type { Design } from '../design/model.js';
 import { cutList, formatSI, table, wrap } from './format.js';
+import { figure, WHY_SUFFIX } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
 
@@ -21,13 +22,18 @@ export interface ReportJson {
     driver: string;
     fanout: number;
     high: { nominal: number; worst: number } | null;
+    highWhy?: string;
     low: { nominal: number; worst: number } | null;
-    margin: { high: number | null; low: number | null };
+    lowWhy?: string;
+    margin: { high: number | null; highWhy?: string; low: number | null; lowWhy?: string };
     cutoffMargin: number | null;
+    cutoffMarginWhy?: string;
     driveMargin: number | null;
+    driveMarginWhy?: string;
     headroom: number | null;
+    headroomWhy?: string;
     /** Each input the net feeds: its worst-case thresholds and the net's noise margins against them. */
-    receivers: { section: string; stage: string; vil: number | null; vih: number | null; marginHigh: number | null; marginLow: number | null }[];
+    receivers: ({ section: string; stage: string } & Record<'vil' | 'vih' | 'marginHigh' | 'marginLow', number | null> & Partial<Record<'vilWhy' | 'vihWhy' | 'marginHighWhy' | 'marginLowWhy', string>>)[];
     status: 'pass' | 'fail' | 'unchecked';
     reasons: string[];
     causes: { parameter: string; kind: string; end: 'low' | 'high'; value: number; effectVolts: number }[];
@@ -35,11 +41,15 @@ export interface ReportJson {
   latches: {
     nets: [string, string];
     holds: boolean;
-    snm: number;
-    snmNominal: number;
+    snm: number | null;
+    snmWhy?: string;
+    snmNominal: number | null;
+    snmNominalWhy?: string;
     switches: boolean | null;
+    switchesWhy?: string;
     triggerMargin: number | null;
-    inputs: { input: string; pulls: string; switches: boolean; threshold: number | null; triggerMargin: number | null; note: string | null }[];
+    triggerMarginWhy?: string;
+    inputs: ({ input: string; pulls: string; switches: boolean; note: string | null } & Record<'threshold' | 'triggerMargin', number | null> & Partial<Record<'thresholdWhy' | 'triggerMarginWhy', string>>)[];
     reasons: string[];
   }[];
   /** Present with `--samples`. */
@@ -49,18 +59,18 @@ export interface ReportJson {
     distribution: string;
     yield: number;
     interval: [number, number];
-    nets: { net: string; min: number | null; p1: number | null; median: number | null; failures: number }[];
+    nets: ({ net: string; failures: number } & Record<'min' | 'p1' | 'median', number | null> & Partial<Record<'minWhy' | 'p1Why' | 'medianWhy', string>>)[];
     correlated: { parameter: string; kind: string; correlation: number }[];
     failingSamples: number[];
   };
   /** Ratings and budgets. */
   ratings?: {
     ok: boolean;
-    sections: { section: string; model: string; plateWatts: number; screenWatts: number; plateRating: number | null; screenRating: number | null; ok: boolean }[];
+    sections: ({ section: string; model: string; plateWatts: number; screenWatts: number; ok: boolean } & Record<'plateRating' | 'screenRating', number | null> & Partial<Record<'plateRatingWhy' | 'screenRatingWhy', string>>)[];
     resistors: { resistor: string; watts: number; rating: number; share: number; ok: boolean }[];
-    rails: { rail: string; volts: number; amps: number | null; watts: number | null }[];
+    rails: ({ rail: string; volts: number } & Record<'amps' | 'watts', number | null> & Partial<Record<'ampsWhy' | 'wattsWhy', string>>)[];
     heaters: { model: string; designation: string; envelopes: number; volts: number; amps: number; strings: { rail: string; perString: number; strings: number; droppingOhms: number; droppingWatts: number }[] }[];
-    followers: { section: string; volts: number | null; rating: number | null; ok: boolean }[];
+    followers: ({ section: string; ok: boolean } & Record<'volts' | 'rating', number | null> & Partial<Record<'voltsWhy' | 'ratingWhy', string>>)[];
   };
   /** Present with `--shrink`. */
   shrink?: { found: boolean; seed: number; runs: number; shrinks: number; deviations: { parameter: string; kind: string; deviation: number; value: number }[]; failing: string[] };
@@ -81,7 +91,34 @@ export const DEFINITIONS: Record<string, string> = {
   triggerMargin: 'a set or reset input at its weakest asserted level, minus the level at which the old state stops existing',
 };
 
-const num = (x: number | undefined) => (x === undefined || !Number.isFinite(x) ? null : x);
+/** A net's level in one state, or null with the reason it has none. */
+function level<K extends 'high' | 'low'>(key: K, n: NetCheck): Record<K, { nominal: number; worst: number } | null> & Partial<Record<`${K}Why`, string>> {
+  const l = n[key];
+  type Level = Record<K, { nominal: number; worst: number } | null> & Partial<Record<`${K}Why`, string>>;
+  if (l && Number.isFinite(l.nominal) && Number.isFinite(l.worst)) return { [key]: l } as unknown as Level;
+  return { [key]: null, [`${key}${WHY_SUFFIX}`]: l ? noLevelWhy(key, l) : neverWhy(key, n) } as unknown as Level;
+}
+
+/** Why a net has no level in a state: it never takes it. */
+function neverWhy(key: 'high' | 'low', n: NetCheck): string {
+  if (n.status === 'unchecked') return `not judged: ${n.reasons[0] ?? 'the chain does not judge this net'}`;
+  if (n.kind === 'input') return `never ${key}: no position of its switches and drives sets it ${key}`;
+  return `never ${key}: no state of its drivers' inputs lets it go ${key}`;
+}
+
+/** Why a state's level is missing though the net takes that state: the solver found no solution at one of its corners. */
+function noLevelWhy(key: 'high' | 'low', l: { nominal: number; worst: number }): string {
+  return Number.isFinite(l.nominal) ? `no solution at the worst corner of its ${key} state: the local solve did not converge there` : `no solution for its ${key} state even at nominal values: the local solve did not converge`;
+}
+
+/** Why a noise margin is missing. */
+function marginWhy(key: 'high' | 'low', n: NetCheck, threshold: number | undefined, thresholdName: string): string {
+  const l = n[key];
+  if (!l) return neverWhy(key, n);
+  if (!Number.isFinite(l.worst) || !Number.isFinite(l.nominal)) return noLevelWhy(key, l);
+  if (n.receivers.length === 0) return 'it feeds no grid: there is no receiving threshold to hold it against';
+  return threshold === undefined ? `no input it feeds has a ${thresholdName}: their gain never reaches 1` : 'not computed';
+}
 
 export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResult, shrunk?: ShrinkResult): ReportJson {
   const json: ReportJson = {
@@ -90,39 +127,53 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
     verdict: r.verdict,
     requiredMargin: r.requiredMargin,
     ageing: { scenario: r.scenario.name, summary: r.scenario.summary },
-    nets: r.nets.map((n) => ({
-      name: n.name,
-      driver: n.driver,
-      fanout: n.fanout,
-      high: n.high ?? null,
-      low: n.low ?? null,
-      margin: { high: num(n.margin.high), low: num(n.margin.low) },
-      cutoffMargin: num(n.cutoffMargin?.volts),
-      driveMargin: num(n.driveMargin?.volts),
-      headroom: n.headroom ?? null,
-      receivers: n.receivers.map((x) => ({
-        section: x.section,
-        stage: x.stage,
-        vil: num(x.vilMin),
-        vih: num(x.vihMax),
-        marginHigh: n.high && x.vihMax !== undefined ? n.high.worst - x.vihMax : null,
-        marginLow: n.low && x.vilMin !== undefined ? x.vilMin - n.low.worst : null,
-      })),
-      status: n.status,
-      reasons: n.reasons,
-      causes: (n.weakest?.causes ?? []).map((c) => ({ parameter: c.target, kind: c.kind, end: c.end, value: c.value, effectVolts: c.volts })),
-    })),
+    nets: r.nets.map((n) => {
+      const vih = n.receivers.reduce<number | undefined>((m, x) => (x.vihMax === undefined ? m : Math.max(m ?? -Infinity, x.vihMax)), undefined);
+      const vil = n.receivers.reduce<number | undefined>((m, x) => (x.vilMin === undefined ? m : Math.min(m ?? Infinity, x.vilMin)), undefined);
+      const driven = n.kind === 'input' ? 'an input: no section of its own drives it' : undefined;
+      return {
+        name: n.name,
+        driver: n.driver,
+        fanout: n.fanout,
+        ...level('high', n),
+        ...level('low', n),
+        margin: { ...figure('high', n.margin.high, marginWhy('high', n, vih, 'VIH')), ...figure('low', n.margin.low, marginWhy('low', n, vil, 'VIL')) },
+        ...figure('cutoffMargin', n.cutoffMargin?.volts, driven ?? (n.high ? 'no section of its drivers could be judged at cutoff while it is high' : neverWhy('high', n))),
+        ...figure('driveMargin', n.driveMargin?.volts, driven ?? (n.low ? 'no input divider of its drivers could be judged while it is low' : neverWhy('low', n))),
+        ...figure('headroom', n.headroom, driven ?? (n.receivers.length === 0 && r.standardLoad === undefined ? 'the design has no input divider to count as a standard load' : 'no thresholds to judge extra loads against, or not worked out in this run')),
+        receivers: n.receivers.map((x) => ({
+          section: x.section,
+          stage: x.stage,
+          ...figure('vil', x.vilMin, 'the receiving stage never reaches a gain of 1 seen from this net: it has no unity-gain point'),
+          ...figure('vih', x.vihMax, 'the receiving stage never reaches a gain of 1 seen from this net: it has no unity-gain point'),
+          ...figure('marginHigh', n.high && x.vihMax !== undefined ? n.high.worst - x.vihMax : undefined, !n.high ? neverWhy('high', n) : 'this input has no VIH'),
+          ...figure('marginLow', n.low && x.vilMin !== undefined ? x.vilMin - n.low.worst : undefined, !n.low ? neverWhy('low', n) : 'this input has no VIL'),
+        })),
+        status: n.status,
+        reasons: n.reasons,
+        causes: (n.weakest?.causes ?? []).filter((c) => Number.isFinite(c.value) && Number.isFinite(c.volts)).map((c) => ({ parameter: c.target, kind: c.kind, end: c.end, value: c.value, effectVolts: c.volts })),
+      };
+    }),
     latches: r.latches.map((l) => {
       const judged = l.inputs.filter((i) => i.note === undefined);
       const margins = judged.flatMap((i) => (i.triggerMargin === undefined ? [] : [i.triggerMargin]));
+      const switches = judged.length ? judged.every((i) => i.switches) : null;
       return {
         nets: l.nets,
         holds: l.holds,
-        snm: l.snm.worst,
-        snmNominal: l.snm.nominal,
-        switches: judged.length ? judged.every((i) => i.switches) : null,
-        triggerMargin: margins.length && judged.every((i) => i.switches) ? Math.min(...margins) : null,
-        inputs: l.inputs.map((i) => ({ input: i.input, pulls: i.pulls, switches: i.switches, threshold: num(i.threshold), triggerMargin: num(i.triggerMargin), note: i.note ?? null })),
+        ...figure('snm', l.snm.worst, 'no butterfly could be drawn at the worst corners: a transfer curve of the latch did not solve'),
+        ...figure('snmNominal', l.snm.nominal, 'no butterfly could be drawn at nominal values: a transfer curve of the latch did not solve'),
+        switches,
+        ...(switches === null ? { switchesWhy: l.inputs.length === 0 ? 'it has no set or reset input' : 'none of its inputs could be judged (see each input\'s note)' } : {}),
+        ...figure('triggerMargin', switches && margins.length ? Math.min(...margins) : undefined, switches === null ? 'no input to judge' : switches ? 'no input gave a trigger margin' : 'an input does not switch it: there is no margin to give'),
+        inputs: l.inputs.map((i) => ({
+          input: i.input,
+          pulls: i.pulls,
+          switches: i.switches,
+          ...figure('threshold', i.threshold, i.note ?? 'the old state never stopped existing along the input\'s range'),
+          ...figure('triggerMargin', i.triggerMargin, i.note ?? (i.switches ? 'no level at which the old state stops was found' : 'it does not switch the latch')),
+          note: i.note ?? null,
+        })),
         reasons: l.reasons,
       };
     }),
@@ -131,13 +182,22 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
   };
   if (r.ratings) {
     const g = r.ratings;
+    const noOp = 'the nominal operating point did not converge, so no rail current was measured';
     json.ratings = {
       ok: g.ok,
-      sections: g.sections.map((x) => ({ ...x, plateRating: x.plateRating ?? null, screenRating: x.screenRating ?? null })),
+      sections: g.sections.map((x) => ({
+        section: x.section,
+        model: x.model,
+        plateWatts: x.plateWatts,
+        screenWatts: x.screenWatts,
+        ok: x.ok,
+        ...figure('plateRating', x.plateRating, 'a type of the design\'s own: the library holds no rating for it'),
+        ...figure('screenRating', x.screenRating, x.plateRating === undefined ? 'a type of the design\'s own: the library holds no rating for it' : 'a triode: no screen'),
+      })),
       resistors: g.resistors,
-      rails: g.rails.map((x) => ({ ...x, amps: num(x.amps), watts: num(x.watts) })),
+      rails: g.rails.map((x) => ({ rail: x.rail, volts: x.volts, ...figure('amps', x.amps, noOp), ...figure('watts', x.watts, noOp) })),
       heaters: g.heaters,
-      followers: g.followers.map((x) => ({ ...x, volts: num(x.volts), rating: x.rating ?? null })),
+      followers: g.followers.map((x) => ({ section: x.section, ok: x.ok, ...figure('volts', x.volts, 'no solution at its worst corner'), ...figure('rating', x.rating, 'a type of the design\'s own: the library holds no heater–cathode rating for it') })),
     };
   }
   if (mc) {
@@ -147,7 +207,10 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
       distribution: mc.distribution,
       yield: mc.yield,
       interval: mc.interval,
-      nets: mc.nets.map((n) => ({ net: n.net, min: num(n.min), p1: num(n.p1), median: num(n.median), failures: n.failures })),
+      nets: mc.nets.map((n) => {
+        const none = 'no sample gave this net a level: none of them solved';
+        return { net: n.net, ...figure('min', n.min, none), ...figure('p1', n.p1, none), ...figure('median', n.median, none), failures: n.failures };
+      }),
       correlated: mc.correlated.map((c) => ({ parameter: c.target, kind: c.kind, correlation: c.correlation })),
       failingSamples: mc.failing,
     };
@@ -210,12 +273,13 @@ function renderRatings(g: Ratings): string[] {
   const out = [`Ratings and budgets${g.ok ? '' : ': OVER RATING'}`];
   const overSections = g.sections.filter((s) => !s.ok);
   const overResistors = g.resistors.filter((r) => !r.ok);
-  for (const s of overSections) out.push(...indented(`${s.section} dissipates up to ${formatSI(s.plateWatts, 'W')} on its plate and ${formatSI(s.screenWatts, 'W')} on its screen, over its rating (${formatSI(s.plateRating ?? NaN, 'W')}, ${formatSI(s.screenRating ?? NaN, 'W')})`, '  ', '    '));
+  for (const s of overSections) out.push(...indented(`${s.section} dissipates up to ${formatSI(s.plateWatts, 'W')} on its plate and ${formatSI(s.screenWatts, 'W')} on its screen, over its rating (${formatSI(s.plateRating ?? NaN, 'W')}${s.screenRating === undefined ? '' : `, ${formatSI(s.screenRating, 'W')}`})`, '  ', '    '));
   for (const r of overResistors.slice(0, 8)) out.push(...indented(`${r.resistor} takes up to ${formatSI(r.watts, 'W')}, ${Math.round(r.share * 100)} % of its ${formatSI(r.rating, 'W')} rating (keep it under ${Math.round(DERATING * 100)} %)`, '  ', '    '));
   if (overResistors.length > 8) out.push(`  and ${overResistors.length - 8} more resistors over ${Math.round(DERATING * 100)} % of their rating`);
   const hot = g.sections[0];
   if (hot) out.push(...indented(`Most plate dissipation, worst case: ${hot.section}, ${formatSI(hot.plateWatts, 'W')}${hot.plateRating === undefined ? '' : ` of ${formatSI(hot.plateRating, 'W')}`}; most loaded resistor: ${g.resistors[0] ? `${g.resistors[0].resistor}, ${Math.round(g.resistors[0].share * 100)} % of its rating` : 'none'}.`, '  ', '    '));
-  out.push(...indented(`Rails at the nominal operating point: ${g.rails.map((r) => `${r.rail} ${formatSI(r.amps, 'A')} (${formatSI(Math.abs(r.watts), 'W')})`).join(', ')}.`, '  ', '    '));
+  if (g.rails.some((r) => !Number.isFinite(r.amps))) out.push(...indented('Rail currents: not measured, because the nominal operating point did not converge (run solve to see where).', '  ', '    '));
+  else if (g.rails.length > 0) out.push(...indented(`Rails at the nominal operating point: ${g.rails.map((r) => `${r.rail} ${formatSI(r.amps, 'A')} (${formatSI(Math.abs(r.watts), 'W')})`).join(', ')}.`, '  ', '    '));
   for (const h of g.heaters) {
     const strings = h.strings.map((s) => `${s.strings} strings of ${s.perString} across ${s.rail} with ${formatSI(s.droppingOhms, 'Ω')} (${formatSI(s.droppingWatts, 'W')}) each`).join('; or ');
     out.push(...indented(`Heaters, ${h.model} (${h.designation}): ${h.envelopes} envelopes at ${h.volts} V, ${formatSI(h.amps, 'A')} each, ${formatSI(h.envelopes * h.amps, 'A')} in parallel${strings ? `; or ${strings}` : ''}.`, '  ', '    '));

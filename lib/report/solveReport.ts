@@ -3,6 +3,7 @@ import { compareNames } from '../graph/stageGraph.js';
 import type { OperatingPoint } from '../solve/operatingPoint.js';
 import { logicThreshold } from '../solve/operatingPoint.js';
 import { formatSI, table, wrap } from './format.js';
+import { figure } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
 
@@ -13,9 +14,12 @@ export interface SolveJson {
   converged: boolean;
   method: string;
   iterations: number;
-  residualAmps: number;
-  nodes: Record<string, number>;
-  tubes: Record<string, { vak: number; vgk: number; vg2k: number | null; plateAmps: number; gridAmps: number; screenAmps: number; plateWatts: number; screenWatts: number }>;
+  residualAmps: number | null;
+  residualAmpsWhy?: string;
+  /** Net voltages; a net whose voltage a failed solve left undefined is null, with `nodesWhy`. */
+  nodes: Record<string, number | null>;
+  nodesWhy?: string;
+  tubes: Record<string, { vak: number; vgk: number; vg2k: number | null; vg2kWhy?: string; plateAmps: number; gridAmps: number; screenAmps: number; plateWatts: number; screenWatts: number }>;
   resistors: Record<string, { amps: number; watts: number; ratingWatts: number }>;
   hints: { net: string; state: 0 | 1; assumed: boolean; volts: number; held: boolean }[];
   warnings: { code: string; message: string }[];
@@ -23,22 +27,26 @@ export interface SolveJson {
 }
 
 export function solveToJson(design: Design, op: OperatingPoint): SolveJson {
-  const nodes: Record<string, number> = {};
-  for (const net of [...op.nodes.keys()].sort(compareNames)) nodes[net] = op.nodes.get(net)!;
+  const nodes: Record<string, number | null> = {};
+  const finite = (x: number) => (Number.isFinite(x) ? x : 0);
+  for (const net of [...op.nodes.keys()].sort(compareNames)) nodes[net] = Number.isFinite(op.nodes.get(net)!) ? op.nodes.get(net)! : null;
+  const undefinedNodes = Object.values(nodes).some((v) => v === null);
   const tubes: SolveJson['tubes'] = {};
   for (const t of op.tubes) {
-    tubes[t.name] = { vak: t.vak, vgk: t.vgk, vg2k: t.vg2k ?? null, plateAmps: t.plateAmps, gridAmps: t.gridAmps, screenAmps: t.screenAmps, plateWatts: t.plateWatts, screenWatts: t.screenWatts };
+    // A failed solve may leave a section's figures undefined; they read 0 then, and `converged` says to trust none of them.
+    tubes[t.name] = { vak: finite(t.vak), vgk: finite(t.vgk), ...figure('vg2k', t.vg2k, 'a triode: no screen'), plateAmps: finite(t.plateAmps), gridAmps: finite(t.gridAmps), screenAmps: finite(t.screenAmps), plateWatts: finite(t.plateWatts), screenWatts: finite(t.screenWatts) };
   }
   const resistors: SolveJson['resistors'] = {};
-  for (const r of op.resistors) resistors[r.name] = { amps: r.amps, watts: r.watts, ratingWatts: r.ratingWatts };
+  for (const r of op.resistors) resistors[r.name] = { amps: finite(r.amps), watts: finite(r.watts), ratingWatts: r.ratingWatts };
   return {
     schema: 'tubemargin.solve/1',
     title: design.title,
     converged: op.converged,
     method: op.method,
     iterations: op.iterations,
-    residualAmps: op.residualAmps,
+    ...figure('residualAmps', op.residualAmps, 'the solve broke down before a residual could be measured'),
     nodes,
+    ...(undefinedNodes ? { nodesWhy: 'the solve broke down: the nets at null have no defined voltage (see warnings)' } : {}),
     tubes,
     resistors,
     hints: op.hints.map((h) => ({ net: h.net, state: h.high ? 1 : 0, assumed: h.assumed, volts: h.volts, held: h.held })),

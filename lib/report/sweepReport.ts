@@ -1,6 +1,7 @@
 import type { RailSweepResult } from '../analysis/sweep.js';
 import type { Design } from '../design/model.js';
 import { wrap } from './format.js';
+import { figure, named, type Figure } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
 
@@ -11,9 +12,9 @@ export interface SweepJson {
   heater: number;
   axes: { rail: string; values: number[]; nominal: number }[];
   /** `grid[j][i]`: value i of the first rail, value j of the second. */
-  grid: { pass: boolean; failures: number; weakest: string | null }[][];
+  grid: { pass: boolean; failures: number; weakest: string | null; weakestWhy?: string }[][];
   nominalPoint: number[];
-  window: { rail: string; low: number | null; high: number | null; position: number | null }[];
+  window: ({ rail: string } & Figure<'low'> & Figure<'high'> & Figure<'position'>)[];
   cautions: string[];
 }
 
@@ -23,9 +24,12 @@ export function sweepToJson(design: Design, r: RailSweepResult): SweepJson {
     title: design.title,
     heater: r.heater,
     axes: r.axes,
-    grid: r.grid.map((row) => row.map((p) => ({ pass: p.pass, failures: p.failures, weakest: p.weakest ?? null }))),
+    grid: r.grid.map((row) => row.map((p) => ({ pass: p.pass, failures: p.failures, ...named('weakest', p.weakest, p.pass ? 'it passes: no net is short of its margin' : 'no single net to name: the design does not solve at this point, a loop did not settle, or only a rating is exceeded') }))),
     nominalPoint: r.nominalPoint,
-    window: r.window.map((w) => ({ rail: w.rail, low: w.low ?? null, high: w.high ?? null, position: w.position ?? null })),
+    window: r.window.map((w) => {
+      const none = 'the nominal point fails, so there is no window around it along this rail';
+      return { rail: w.rail, ...figure('low', w.low, none), ...figure('high', w.high, none), ...figure('position', w.position, w.low === undefined ? none : 'the window has no width to place the nominal in') };
+    }),
     cautions: safetyCautions(design),
   };
 }

@@ -68,7 +68,7 @@ export interface HintOutcome {
 export interface OperatingPoint {
   converged: boolean;
   /** How the solution was reached. */
-  method: 'newton' | 'gmin stepping' | 'source stepping';
+  method: 'newton' | 'gmin stepping' | 'source stepping' | 'pseudo-transient';
   iterations: number;
   /** Voltage of every net of the design, rails and ground included. */
   nodes: Map<string, number>;
@@ -91,6 +91,8 @@ const PIN_STEPS = [1e-2, 1e-4, 1e-6, 1e-8];
 const GMIN_FLOOR = 1e-12;
 const GMIN_STEPS = [1e-3, 1e-4, 1e-5, 1e-6, 1e-7, 1e-8, 1e-9, 1e-10, 1e-11, GMIN_FLOOR];
 const SOURCE_STEPS = [0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1];
+/** Steps of pseudo-transient continuation at most: g halves per good step from 1 mS, so about 35 good steps reach the real circuit. */
+const PSEUDO_TRANSIENT_STEPS = 400;
 
 /** The voltage a net reads as high from: half its plate-load rail (or of the highest rail). */
 export function logicThreshold(design: Design, net: string): number {
@@ -125,7 +127,8 @@ function pullUpVolts(design: Design): (net: string) => number {
 /**
  * The DC operating point of a design: modified nodal analysis (every net not held by a
  * stiff source an unknown), solved by Newton's method with analytic Jacobians and step
- * limiting, falling back on gmin stepping and then source stepping.
+ * limiting, falling back on gmin stepping, then source stepping, then pseudo-transient
+ * continuation.
  *
  * State selection: hinted nets (and, for every latch no hint covers, its first net low)
  * are first pinned towards their logic level through a conductance, which is then stepped
@@ -180,7 +183,35 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
     if (GMIN_STEPS.every((g) => run({ ...s, gmin: Math.max(g, s.gmin) }))) return true;
     x.set(saved);
     method = 'source stepping';
-    return SOURCE_STEPS.every((k) => run({ ...s, sourceScale: k, gmin: 1e-9 })) && run(s);
+    if (SOURCE_STEPS.every((k) => run({ ...s, sourceScale: k, gmin: 1e-9 })) && run(s)) return true;
+    x.set(saved);
+    method = 'pseudo-transient';
+    return pseudoTransient(s);
+  };
+  /**
+   * Pseudo-transient continuation: every node gets a capacitor to its last value, which a
+   * backward-Euler step turns into a conductance g to it, and g falls step by step to 0 (the
+   * circuit settling in time, without its real capacitors). Each step is a small move from
+   * the last, so Newton converges where a long chain of high-gain stages defeats it from a
+   * cold start (C. T. Kelley and D. E. Keyes, "Convergence analysis of pseudo-transient
+   * continuation", SIAM J. Numer. Anal., 1998). A failed step is retried with a larger g;
+   * the number of steps is bounded (PSEUDO_TRANSIENT_STEPS), so it always ends.
+   */
+  const pseudoTransient = (s: NewtonSettings): boolean => {
+    const pinSiemens = new Float64Array(c.n);
+    const pinVolts = new Float64Array(c.n);
+    let g = 1e-3;
+    for (let k = 0; k < PSEUDO_TRANSIENT_STEPS && g > 1e-13; k++) {
+      pinSiemens.fill(g);
+      pinVolts.set(x);
+      if (run({ ...s, pinSiemens, pinVolts, maxIterations: Math.min(50, s.maxIterations) })) g /= 2;
+      else {
+        x.set(pinVolts);
+        g *= 10;
+        if (g > 10) return false;
+      }
+    }
+    return run(s);
   };
 
   let converged: boolean;
