@@ -12,6 +12,7 @@ import { latchCheck, type LatchResult } from './latchCheck.js';
 import type { LocalParameter } from './localProblem.js';
 import { receiverThresholds } from './receiverThresholds.js';
 import type { TransferCurve } from './staticNoiseMargin.js';
+import { highest, lowest } from '../extremes.js';
 
 export interface CheckOptions {
   /** The noise margin every net must keep (volts); the design's own setting when absent. */
@@ -250,8 +251,8 @@ function judgeNet(
   const low = l.canLow ? { nominal: l.lowNominal, worst: l.lowWorst } : undefined;
   const vihs = receivers.flatMap((r) => (r.vihMax === undefined ? [] : [r.vihMax]));
   const vils = receivers.flatMap((r) => (r.vilMin === undefined ? [] : [r.vilMin]));
-  const vihMax = vihs.length ? Math.max(...vihs) : undefined;
-  const vilMin = vils.length ? Math.min(...vils) : undefined;
+  const vihMax = vihs.length ? highest(vihs) : undefined;
+  const vilMin = vils.length ? lowest(vils) : undefined;
   const margin = {
     high: high && vihMax !== undefined ? high.worst - vihMax : undefined,
     low: low && vilMin !== undefined ? vilMin - low.worst : undefined,

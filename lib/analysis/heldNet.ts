@@ -5,6 +5,7 @@ import { compileCircuit } from '../solve/circuit.js';
 import { DcSystem } from '../solve/dcSystem.js';
 import { withinSpan } from '../solve/voltageSpan.js';
 import { RESIDUAL_LIMIT, solveOperatingPoint, type OperatingPoint, type SolveOptions } from '../solve/operatingPoint.js';
+import { highest, lowest } from '../extremes.js';
 
 /**
  * A design with one net held by a stiff source whose level changes between solves without
@@ -53,7 +54,7 @@ export class HeldNet {
     c.fixedVolts[this.fixed] = volts;
     const x = Float64Array.from(start);
     const rails = [0, ...this.design.rails.map((r) => r.volts)];
-    const maxStep = Math.min(20, Math.max(1, (Math.max(...rails) - Math.min(...rails)) / 10));
+    const maxStep = Math.min(20, Math.max(1, (highest(rails) - lowest(rails)) / 10));
     const converged = this.system.newton(x, { gmin: 1e-12, sourceScale: 1, maxStep, maxIterations: 50 }).converged;
     return converged && this.system.trueResidual(x) <= RESIDUAL_LIMIT && withinSpan(c, x) ? x : undefined;
   }

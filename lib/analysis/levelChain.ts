@@ -6,6 +6,7 @@ import type { AgeingScenario } from './ageing.js';
 import { LocalProblem, regionParameters, type LocalParameter } from './localProblem.js';
 import { buildRegion, indexDesign, type DesignIndex, type Region } from './region.js';
 import { searchVertex, type Band } from './vertex.js';
+import { highest, lowest } from '../extremes.js';
 
 /** How a net's level is set: by inverting stages (plates: NOR), by followers (cathodes: OR), or from outside. */
 export type NetPolarity = 'inverting' | 'follower' | 'mixed' | 'input';
@@ -129,8 +130,8 @@ export class LevelChain {
   ) {
     this.index = indexDesign(design, graph);
     const ends = [0, ...design.rails.flatMap((r) => [r.volts * (1 - r.tol), r.volts * (1 + r.tol)])];
-    this.railMin = Math.min(...ends);
-    this.railMax = Math.max(...ends);
+    this.railMin = lowest(ends);
+    this.railMax = highest(ends);
     for (const n of graph.nets) this.nets.set(n.name, this.describe(n.name, n.kind === 'input'));
     this.order = stronglyConnected(graph.graph).reverse().flat();
   }
@@ -393,8 +394,8 @@ export class LevelChain {
     let moved = false;
     if (cases.high.length > 0) {
       const rs = cases.high.map((c) => this.solveCase(c));
-      const nominal = roundTo(Math.min(...rs.map((r) => r.nominal)), 1e-6);
-      const worst = Math.floor(Math.min(...rs.map((r) => r.worst ?? -Infinity)) / LEVEL_STEP) * LEVEL_STEP;
+      const nominal = roundTo(lowest(rs.map((r) => r.nominal)), 1e-6);
+      const worst = Math.floor(lowest(rs.map((r) => r.worst ?? -Infinity)) / LEVEL_STEP) * LEVEL_STEP;
       const next = Math.min(l.highWorst, Number.isFinite(worst) ? worst : this.railMin);
       moved = moved || nominal !== l.highNominal || next !== l.highWorst;
       l.highNominal = nominal;
@@ -403,8 +404,8 @@ export class LevelChain {
     }
     if (cases.low.length > 0) {
       const rs = cases.low.map((c) => this.solveCase(c));
-      const nominal = roundTo(Math.max(...rs.map((r) => r.nominal)), 1e-6);
-      const worst = Math.ceil(Math.max(...rs.map((r) => r.worst ?? Infinity)) / LEVEL_STEP) * LEVEL_STEP;
+      const nominal = roundTo(highest(rs.map((r) => r.nominal)), 1e-6);
+      const worst = Math.ceil(highest(rs.map((r) => r.worst ?? Infinity)) / LEVEL_STEP) * LEVEL_STEP;
       const next = Math.max(l.lowWorst, Number.isFinite(worst) ? worst : this.railMax);
       moved = moved || nominal !== l.lowNominal || next !== l.lowWorst;
       l.lowNominal = nominal;

@@ -8,6 +8,7 @@ import { emissionBand, type AgeingScenario } from './ageing.js';
 import { localDesign } from './localDesign.js';
 import type { Region } from './region.js';
 import type { Band, Probe } from './vertex.js';
+import { highest, lowest } from '../extremes.js';
 
 /**
  * One toleranced quantity of a local problem. Kinds beyond the design's own parameters:
@@ -126,7 +127,7 @@ export class LocalProblem {
       }
     });
     const rails = [0, ...region.rails.map((r) => r.volts)];
-    this.settings = { gmin: 1e-12, sourceScale: 1, maxStep: Math.max(1, (Math.max(...rails) - Math.min(...rails)) / 10), maxIterations: 100 };
+    this.settings = { gmin: 1e-12, sourceScale: 1, maxStep: Math.max(1, (highest(rails) - lowest(rails)) / 10), maxIterations: 100 };
   }
 
   /** Writes parameter values (in `regionParameters` order) into the circuit. */

@@ -5,6 +5,7 @@ import { findScenario, type AgeingScenario } from './ageing.js';
 import type { CheckResult } from './check.js';
 import { LocalProblem, regionParameters, type LocalParameter } from './localProblem.js';
 import { buildRegion, indexDesign } from './region.js';
+import { highest, lowest } from '../extremes.js';
 
 /**
  * How each toleranced value is drawn: uniform over its band; normal with the band's half
@@ -35,7 +36,7 @@ export function samplingThresholds(check: CheckResult): SamplingSetup['threshold
   return check.nets.flatMap((n) => {
     const vils = n.receivers.flatMap((r) => (r.vilMin === undefined ? [] : [r.vilMin]));
     const vihs = n.receivers.flatMap((r) => (r.vihMax === undefined ? [] : [r.vihMax]));
-    return vils.length > 0 && vihs.length > 0 ? [{ net: n.name, vil: Math.min(...vils), vih: Math.max(...vihs) }] : [];
+    return vils.length > 0 && vihs.length > 0 ? [{ net: n.name, vil: lowest(vils), vih: highest(vihs) }] : [];
   });
 }
 

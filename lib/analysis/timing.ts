@@ -2,6 +2,7 @@ import { GROUND, type Design } from '../design/model.js';
 import type { StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold } from '../solve/operatingPoint.js';
 import type { TransientResult } from '../solve/transient.js';
+import { highest, lowest } from '../extremes.js';
 
 /** One crossing of a net's logic threshold. */
 interface Crossing {
@@ -124,7 +125,7 @@ export function stageTimings(design: Design, graph: StageGraph, run: TransientRe
   };
   for (const net of triggers) {
     const v = run.volts(net);
-    if (v) crossed(net, (Math.min(...v) + Math.max(...v)) / 2);
+    if (v) crossed(net, (lowest(v) + highest(v)) / 2);
   }
   const out: StageTiming[] = [];
   const end = times[times.length - 1]!;

@@ -4,6 +4,7 @@ import { error, type Diagnostic } from '../source/diagnostic.js';
 import type { AgeingScenario } from './ageing.js';
 import { checkMargins, type CheckResult } from './check.js';
 import { DERATING } from './ratings.js';
+import { lowest } from '../extremes.js';
 
 export interface TuneOptions {
   /** The stage (its output net) whose resistors are chosen. */
@@ -100,7 +101,7 @@ function candidate(r: CheckResult | { diagnostics: Diagnostic[] }, stage: string
   if (!('verdict' in r)) return { load, series, pulldown, slack: -Infinity, weakestNet: undefined, verdict: 'fail', driveMargin: undefined, loadShare: Infinity, withinLimits: false };
   const net = r.nets.find((n) => n.name === stage);
   const near = r.nets.filter((n) => touched.has(n.name));
-  const slack = Math.min(...near.map((n) => n.slack));
+  const slack = lowest(near.map((n) => n.slack));
   const low = net?.low?.nominal ?? 0;
   // The plate load carries the most when the stage is low: (rail − low level)² / R.
   const loadShare = ((rail - low) ** 2 / load) / watts;

@@ -1,6 +1,7 @@
 import type { ModelKind, TubeModel } from '../design/model.js';
 import { NOMINAL_VARIATION, tubeCurrents } from './tubeEquations.js';
 import { MODEL_KINDS } from './kinds.js';
+import { highest, lowest } from '../extremes.js';
 
 /** One bench reading of one tube: electrode voltages against the cathode, and the currents measured. */
 export interface Reading {
@@ -82,7 +83,7 @@ export function fitReadings(readings: readonly Reading[], kind: ModelKind): FitA
   if (distinct(usable.map((r) => r.gridVolts)) < 3) return { refusal: 'the readings use fewer than three grid voltages: the amplification factor cannot be told from the perveance' };
   if (distinct(usable.map((r) => r.plateVolts)) < 3) return { refusal: 'the readings use fewer than three plate voltages: the plate characteristic cannot be fitted' };
   if (kind === 'koren-pentode' && usable.some((r) => r.screenVolts === undefined)) return { refusal: 'a pentode fit needs the screen voltage of every reading (column screen_v)' };
-  const largest = Math.max(...usable.map((r) => r.plateAmps));
+  const largest = highest(usable.map((r) => r.plateAmps));
   if (!(largest > 0)) return { refusal: 'no reading shows any plate current' };
 
   const free = names.filter((n) => !(n === 'kg2' && !withScreen));
@@ -133,8 +134,8 @@ export function fitReadings(readings: readonly Reading[], kind: ModelKind): FitA
     fit: {
       model: { kind, ...params } as FittedParameters,
       perTube,
-      spread: Math.max(...Object.values(perTube).map((f) => Math.abs(f - 1))),
-      trustedPlateVolts: [Math.min(...plates), Math.max(...plates)],
+      spread: highest(Object.values(perTube).map((f) => Math.abs(f - 1))),
+      trustedPlateVolts: [lowest(plates), highest(plates)],
       rmsError,
       readings: usable.length,
       iterations: b.iterations,

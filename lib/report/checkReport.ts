@@ -9,6 +9,7 @@ import { cutList, formatSI, table, wrap } from './format.js';
 import { figure, WHY_SUFFIX } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
+import { lowest } from '../extremes.js';
 
 /** The JSON form of a check, `tubemargin.report/1`: its own type, not the analysis's. */
 export interface ReportJson {
@@ -165,7 +166,7 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
         ...figure('snmNominal', l.snm.nominal, 'no butterfly could be drawn at nominal values: a transfer curve of the latch did not solve'),
         switches,
         ...(switches === null ? { switchesWhy: l.inputs.length === 0 ? 'it has no set or reset input' : 'none of its inputs could be judged (see each input\'s note)' } : {}),
-        ...figure('triggerMargin', switches && margins.length ? Math.min(...margins) : undefined, switches === null ? 'no input to judge' : switches ? 'no input gave a trigger margin' : 'an input does not switch it: there is no margin to give'),
+        ...figure('triggerMargin', switches && margins.length ? lowest(margins) : undefined, switches === null ? 'no input to judge' : switches ? 'no input gave a trigger margin' : 'an input does not switch it: there is no margin to give'),
         inputs: l.inputs.map((i) => ({
           input: i.input,
           pulls: i.pulls,

@@ -7,6 +7,7 @@ import { compileCircuit, type Circuit, type CompileOptions } from './circuit.js'
 import { DcSystem, type NewtonSettings } from './dcSystem.js';
 import type { LinearSystemFactory } from './linearSystem.js';
 import { nodesOutsideSpan, voltageSpan } from './voltageSpan.js';
+import { highest, lowest } from '../extremes.js';
 
 /** The logic state asked of a net: 1 high, 0 low. */
 export interface StateHint {
@@ -157,7 +158,7 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
   const warm = start !== undefined && start.length === c.n && options.hints === undefined;
   const hints = warm ? [] : collectHints(design, graph, options.hints ?? [], c, diagnostics);
   const rails = [0, ...design.rails.map((r) => r.volts)];
-  const span = Math.max(...rails) - Math.min(...rails);
+  const span = highest(rails) - lowest(rails);
   const base: NewtonSettings = {
     gmin: GMIN_FLOOR,
     sourceScale: 1,
@@ -325,7 +326,7 @@ function trustedRangeWarnings(design: Design, tubes: TubeOperatingPoint[]): Diag
     const [lo, hi] = entry.trustedPlateVolts;
     const outside = vaks.filter((v) => v < lo || v > hi);
     if (outside.length === 0) continue;
-    const range = `${Math.min(...outside).toFixed(1)}–${Math.max(...outside).toFixed(1)} V`;
+    const range = `${lowest(outside).toFixed(1)}–${highest(outside).toFixed(1)} V`;
     out.push(
       warning('outside-trusted-range', `${model.name} (${entry.designation}) is trusted from ${lo} to ${hi} V on the plate; ${outside.length} conducting section${outside.length === 1 ? '' : 's'} here run${outside.length === 1 ? 's' : ''} at ${range}`, model.span, [
         'fit the type to bench readings of your own tubes at these voltages before trusting the levels',

@@ -9,6 +9,7 @@ import { nodesOutsideSpan, transientSpan } from './voltageSpan.js';
 import { DcSystem, type NewtonSettings } from './dcSystem.js';
 import type { LinearSystemFactory } from './linearSystem.js';
 import { solveOperatingPoint, type StateHint } from './operatingPoint.js';
+import { highest, lowest } from '../extremes.js';
 
 export interface TransientOptions {
   /** How long to simulate (seconds). */
@@ -132,7 +133,7 @@ export function simulate(design: Design, options: TransientOptions): TransientRe
   const settings: NewtonSettings = {
     gmin: 1e-12,
     sourceScale: 1,
-    maxStep: Math.max(1, (Math.max(...rails) - Math.min(...rails)) / 10),
+    maxStep: Math.max(1, (highest(rails) - lowest(rails)) / 10),
     maxIterations: 40,
     stepTolerance: 1e-7,
     companionSiemens,

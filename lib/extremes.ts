@@ -1,0 +1,27 @@
+/**
+ * The smallest and largest of a list of numbers, by a loop. `Math.min(...xs)` passes every
+ * element as an argument and overflows the call stack beyond about 10⁵ of them (a long
+ * run in time, a large readings file), so nothing in lib spreads a list into it.
+ *
+ * Like `Math.min()` and `Math.max()`, the empty list gives Infinity and −Infinity, and a
+ * NaN anywhere gives NaN. Example: `lowest([3, 1, 2])` is 1, `highest(new Float64Array(0))` is −Infinity.
+ */
+export function lowest(xs: ArrayLike<number>): number {
+  let m = Infinity;
+  for (let i = 0; i < xs.length; i++) {
+    const x = xs[i]!;
+    if (Number.isNaN(x)) return NaN;
+    if (x < m) m = x;
+  }
+  return m;
+}
+
+export function highest(xs: ArrayLike<number>): number {
+  let m = -Infinity;
+  for (let i = 0; i < xs.length; i++) {
+    const x = xs[i]!;
+    if (Number.isNaN(x)) return NaN;
+    if (x > m) m = x;
+  }
+  return m;
+}
