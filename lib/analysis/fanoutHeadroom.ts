@@ -1,5 +1,6 @@
 import type { Part } from '../design/model.js';
 import type { LevelChain } from './levelChain.js';
+import { lowest } from '../extremes.js';
 
 /** One standard load: the input divider and grid of the design's most common receiving input. */
 export interface StandardLoad {
@@ -70,8 +71,8 @@ export function fanoutHeadroom(chain: LevelChain, net: string, load: StandardLoa
     }
     const probe = chain.withParts(n, parts);
     let margin = Infinity;
-    if (l.canHigh) margin = Math.min(margin, ...cases.high.map((c) => (chain.solveCase(c, probe).worst ?? -Infinity) - thresholds.vih));
-    if (l.canLow) margin = Math.min(margin, ...cases.low.map((c) => thresholds.vil - (chain.solveCase(c, probe).worst ?? Infinity)));
+    if (l.canHigh) margin = Math.min(margin, lowest(cases.high.map((c) => (chain.solveCase(c, probe).worst ?? -Infinity) - thresholds.vih)));
+    if (l.canLow) margin = Math.min(margin, lowest(cases.low.map((c) => thresholds.vil - (chain.solveCase(c, probe).worst ?? Infinity))));
     return margin >= required;
   };
   if (!passes(0)) return 0;

@@ -293,8 +293,8 @@ export class LevelChain {
 
   private possibleStates(representatives: string[]): void {
     // Every net starts at the ideal levels, the rails: above every fixed point of the iteration.
-    const top = Math.max(0, ...this.design.rails.map((r) => r.volts));
-    const bottom = Math.min(0, ...this.design.rails.map((r) => r.volts));
+    const top = Math.max(0, highest(this.design.rails.map((r) => r.volts)));
+    const bottom = Math.min(0, lowest(this.design.rails.map((r) => r.volts)));
     for (const name of representatives) {
       const shared: NetLevels = { canHigh: true, canLow: true, highNominal: top, highWorst: top, lowNominal: bottom, lowWorst: bottom };
       for (const member of this.members.get(name)!) this.levels.set(member, shared);

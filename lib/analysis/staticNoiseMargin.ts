@@ -1,3 +1,5 @@
+import { highest } from '../extremes.js';
+
 /** A sampled transfer curve: output against input, inputs strictly increasing. */
 export interface TransferCurve {
   vin: ArrayLike<number>;
@@ -41,7 +43,7 @@ export function staticNoiseMargin(stage1: TransferCurve, stage2: TransferCurve):
   const c2 = rotate(stage2.vin, stage2.vout, true);
   const us = [...new Set([...c1.u, ...c2.u])].filter((u) => u >= Math.max(c1.u[0]!, c2.u[0]!) && u <= Math.min(c1.u[c1.u.length - 1]!, c2.u[c2.u.length - 1]!)).sort((a, b) => a - b);
   const d = us.map((u) => interpolate(c1, u) - interpolate(c2, u));
-  const scale = Math.max(1e-30, ...d.map(Math.abs));
+  const scale = Math.max(1e-30, highest(d.map(Math.abs)));
   const sign = (i: number) => (Math.abs(d[i]!) <= 1e-9 * scale ? 0 : d[i]! > 0 ? 1 : -1);
   // The metastable point: the middle one of the places where the curves change order.
   const changes: number[] = [];

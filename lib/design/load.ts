@@ -50,8 +50,9 @@ export function loadDesign(file: string, text: string, options: LoadOptions = {}
     diagnostics = [...collected.diagnostics, ...expanded.diagnostics];
     sources = collected.texts;
   }
-  if (design && !hasErrors(diagnostics)) diagnostics.push(...validateDesign(design, file));
-  if (design && options.checkModel) diagnostics.push(...checkDesign(design));
+  // concat, not push(...): a large design can have more warnings than a call takes arguments.
+  if (design && !hasErrors(diagnostics)) diagnostics = diagnostics.concat(validateDesign(design, file));
+  if (design && options.checkModel) diagnostics = diagnostics.concat(checkDesign(design));
   diagnostics = sortDiagnostics(diagnostics);
   return { design, diagnostics, sources, ok: design !== undefined && !hasErrors(diagnostics) };
 }

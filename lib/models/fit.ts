@@ -88,7 +88,7 @@ export function fitReadings(readings: readonly Reading[], kind: ModelKind): FitA
 
   const free = names.filter((n) => !(n === 'kg2' && !withScreen));
   const floor = CURRENT_FLOOR * largest;
-  const screenFloor = CURRENT_FLOOR * Math.max(1e-12, ...usable.map((r) => r.screenAmps ?? 0));
+  const screenFloor = CURRENT_FLOOR * Math.max(1e-12, highest(usable.map((r) => r.screenAmps ?? 0)));
   const residuals = (theta: Float64Array, base: Record<string, number>, out: Float64Array) => {
     const params: Record<string, number> = { ...base };
     free.forEach((n, i) => (params[n] = Math.exp(theta[i]!)));

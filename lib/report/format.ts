@@ -1,3 +1,5 @@
+import { highest } from '../extremes.js';
+
 export { formatSI } from '../netlist/units.js';
 
 /** A fraction as a ± percentage: `formatTolerance(0.05)` is "±5 %". */
@@ -18,7 +20,7 @@ export function fit(text: string, width: number): string {
  */
 export function table(header: string[], rows: (string | string[])[][], maxWidths: number[] = [], columns = 80): string[] {
   const text = (c: string | string[] | undefined) => (Array.isArray(c) ? c.join(', ') : (c ?? ''));
-  const widths = header.map((h, i) => Math.min(maxWidths[i] ?? Infinity, Math.max(h.length, ...rows.map((r) => text(r[i]).length))));
+  const widths = header.map((h, i) => Math.min(maxWidths[i] ?? Infinity, Math.max(h.length, highest(rows.map((r) => text(r[i]).length)))));
   const line = (cells: (string | string[])[]) => {
     let used = 0;
     return cells

@@ -4,6 +4,7 @@ import { wrap } from './format.js';
 import { figure, named, type Figure } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
+import { highest } from '../extremes.js';
 
 /** The JSON form of a supply sweep, `tubemargin.sweep/1`. */
 export interface SweepJson {
@@ -58,7 +59,7 @@ export function renderSweep(design: Design, r: RailSweepResult, source: string):
   else {
     // With two rails the second's values label the rows; with one there is a single row.
     const labels = (a2?.values ?? [NaN]).map((v) => (a2 ? `${volts(v)} ` : ''));
-    const width = Math.max(0, ...labels.map((l) => l.length));
+    const width = Math.max(0, highest(labels.map((l) => l.length)));
     for (let j = r.grid.length - 1; j >= 0; j--) out.push(`  ${labels[j]!.padStart(width)}${a1!.values.map((_, i) => cell(i, j)).join('')}`);
     out.push(`  ${' '.repeat(width)}${a1!.rail}: ${volts(a1!.values[0]!)} … ${volts(a1!.values[a1!.values.length - 1]!)}${a2 ? `; up: ${a2.rail}` : ''}`);
   }

@@ -120,7 +120,7 @@ function pullUpVolts(design: Design): (net: string) => number {
     }
     pullUpCache.set(design, map);
   }
-  const fallback = Math.max(1, ...design.rails.map((r) => r.volts));
+  const fallback = Math.max(1, highest(design.rails.map((r) => r.volts)));
   const known = map;
   return (net) => known.get(net) ?? fallback;
 }
