@@ -6,7 +6,7 @@ import type { ShrinkResult } from '../analysis/shrink.js';
 import { DERATING, type Ratings } from '../analysis/ratings.js';
 import type { Design } from '../design/model.js';
 import { cutList, formatSI, table, wrap } from './format.js';
-import { figure, WHY_SUFFIX } from './figure.js';
+import { figure, named, WHY_SUFFIX } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
 import { lowest } from '../extremes.js';
@@ -50,7 +50,7 @@ export interface ReportJson {
     switchesWhy?: string;
     triggerMargin: number | null;
     triggerMarginWhy?: string;
-    inputs: ({ input: string; pulls: string; switches: boolean; note: string | null } & Record<'threshold' | 'triggerMargin', number | null> & Partial<Record<'thresholdWhy' | 'triggerMarginWhy', string>>)[];
+    inputs: ({ input: string; pulls: string; switches: boolean; note: string | null; noteWhy?: string } & Record<'threshold' | 'triggerMargin', number | null> & Partial<Record<'thresholdWhy' | 'triggerMarginWhy', string>>)[];
     reasons: string[];
   }[];
   /** Present with `--samples`. */
@@ -173,7 +173,7 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
           switches: i.switches,
           ...figure('threshold', i.threshold, i.note ?? 'the old state never stopped existing along the input\'s range'),
           ...figure('triggerMargin', i.triggerMargin, i.note ?? (i.switches ? 'no level at which the old state stops was found' : 'it does not switch the latch')),
-          note: i.note ?? null,
+          ...named('note', i.note, 'judged: there is nothing to note'),
         })),
         reasons: l.reasons,
       };
