@@ -164,11 +164,12 @@ class Parser {
   // ---- statements ----------------------------------------------------------------------
 
   parseFile(): Statement[] {
-    const statements = this.parseStatements('top');
-    if (this.isPunct('}')) {
+    // A loop, not recursion per stray '}': a file of 10,000 of them must not exhaust the stack.
+    let statements = this.parseStatements('top');
+    while (this.isPunct('}')) {
       this.diagnostics.push(error('unexpected-token', "this '}' closes nothing", this.tokenSpan(this.peek())));
       this.next();
-      statements.push(...this.parseFile());
+      statements = statements.concat(this.parseStatements('top'));
     }
     return statements;
   }

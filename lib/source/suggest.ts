@@ -27,19 +27,27 @@ export function editDistance(a: string, b: string): number {
   return prev[n] as number;
 }
 
+/** Names longer than this get no "did you mean" hint. */
+export const SUGGEST_MAX_LENGTH = 200;
+
 /**
  * The closest candidate to `name` when it is close enough to be a likely typo
- * (distance at most one third of the name's length, at least 1), else undefined.
+ * (distance at most one third of the name's length, at least 1), else undefined; a name
+ * longer than `SUGGEST_MAX_LENGTH` gets none. Candidates whose length differs by more than
+ * the limit are skipped unmeasured (their distance is at least the difference).
  * Case differences count as half an edit so `Bias` finds `bias` first.
  *
  * Example: `closestName("sett", ["set", "reset"])` is `"set"`.
  */
 export function closestName(name: string, candidates: Iterable<string>): string | undefined {
+  // The distance costs the product of the two lengths: past a length no one types by hand,
+  // a hint is worth nothing and would cost minutes (a generated 60,000-letter name).
+  if (name.length > SUGGEST_MAX_LENGTH) return undefined;
   const limit = Math.max(1, Math.floor(name.length / 3));
   let best: string | undefined;
   let bestScore = Infinity;
   for (const c of candidates) {
-    if (c === name) continue;
+    if (c === name || Math.abs(c.length - name.length) > limit) continue;
     const score = c.toLowerCase() === name.toLowerCase() ? 0.5 : editDistance(name, c);
     if (score <= limit && (score < bestScore || (score === bestScore && best !== undefined && c < best))) {
       best = c;
