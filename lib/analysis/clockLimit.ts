@@ -134,8 +134,10 @@ export function clockLimit(design: Design, options: ClockLimitOptions): ClockLim
     if (t.failure) failing = t.failure;
     else passing = { period: passing.period / 2, runs: t.runs };
   }
+  // Bisection on the logarithm of the period: 30 halvings resolve a factor of 2¹² to 1e-5,
+  // so the cap only stops a resolution of 0 (or below rounding) from running for ever.
   const resolution = options.resolution ?? 0.02;
-  while (failing && passing.period / failing.period > 1 + resolution) {
+  for (let k = 0; k < 30 && failing && passing.period / failing.period > 1 + resolution; k++) {
     const mid = Math.sqrt(passing.period * failing.period);
     const t = trial(mid);
     if (t.failure) failing = t.failure;

@@ -8,6 +8,13 @@ import type { SequenceAction } from './sequence.js';
 
 /** Steps in which a closing contact's net is moved to its rail. */
 const RAMP_STEPS = 16;
+/**
+ * Continuation steps allowed per contact's ramp: each is one Newton run of at most 50
+ * iterations, so a ramp costs at most this many of them before it gives up and the step's
+ * own solve answers. A smooth ramp takes RAMP_STEPS; one that creeps along a fold in
+ * millivolt steps takes hundreds (the shift register of the tests, about 520).
+ */
+const MAX_RAMP_SOLVES = 5000;
 
 /** The nets a state table shows unless told otherwise: every logic net but a stage's internal ones, and inputs the builder named. */
 export function watchedNets(graph: StageGraph): string[] {
@@ -135,7 +142,11 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
     let at = from;
     const longest = (target - from) / RAMP_STEPS;
     let step = longest;
-    while (x && Math.abs(target - at) > 1e-9) {
+    for (let solves = 0; x && Math.abs(target - at) > 1e-9; solves++) {
+      if (solves >= MAX_RAMP_SOLVES) {
+        x = undefined;
+        break;
+      }
       const next = Math.abs(target - at) < Math.abs(step) ? target : at + step;
       const y = Math.abs(step) >= 1e-3 ? held.continueAt(next, x) : jump(held, next, x);
       if (y) {

@@ -28,6 +28,8 @@ export interface TriggerAnswer {
 const RISE_STEPS = 24;
 /** The trigger threshold is found to this step (volts). */
 const THRESHOLD_STEP = 1e-3;
+/** Continuation steps allowed per trigger (each one Newton run of at most 50 iterations); past it the input counts as not switching. */
+const MAX_RISE_SOLVES = 5000;
 
 /**
  * Does a latch switch when its set or reset input is asserted? The input net is held by a
@@ -56,7 +58,7 @@ export function triggerMargin(design: Design, q: TriggerQuestion, variation?: Re
   let level = q.quiet;
   let last = start.x;
   let step = longest;
-  while (direction * (q.asserted - level) > 0) {
+  for (let solves = 0; direction * (q.asserted - level) > 0 && solves < MAX_RISE_SOLVES; solves++) {
     const next = direction > 0 ? Math.min(q.asserted, level + step) : Math.max(q.asserted, level - step);
     const x = held.continueAt(next, last);
     if (x !== undefined && held.voltsOf(x, q.leaves) > line) {

@@ -41,7 +41,8 @@ export function parseReadings(file: string, text: string): Checked<Reading[]> {
   }
   // The header is the first line that is not a comment.
   let headerLine = 1;
-  while (headerLine <= text.split('\n').length && (lineText(headerLine).trim().startsWith('#') || lineText(headerLine).trim() === '')) headerLine++;
+  const lineCount = text.split('\n').length;
+  while (headerLine <= lineCount && (lineText(headerLine).trim().startsWith('#') || lineText(headerLine).trim() === '')) headerLine++;
   const header = lineText(headerLine).split(',').map((h) => h.trim().toLowerCase());
   const missing = READING_COLUMNS.filter((c) => !header.includes(c));
   if (missing.length > 0) return { value: [], diagnostics: [error('csv-column', `the header lacks ${missing.join(', ')}: it must name tube, plate_v, grid_v and plate_ma`, spanAt(headerLine, 0))] };

@@ -94,6 +94,8 @@ const GMIN_STEPS = [1e-3, 1e-4, 1e-5, 1e-6, 1e-7, 1e-8, 1e-9, 1e-10, 1e-11, GMIN
 const SOURCE_STEPS = [0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1];
 /** Steps of pseudo-transient continuation at most: g halves per good step from 1 mS, so about 35 good steps reach the real circuit. */
 const PSEUDO_TRANSIENT_STEPS = 400;
+/** Newton iterations pseudo-transient continuation may spend in all (a 1,000-stage chain takes about 500). */
+const PSEUDO_TRANSIENT_ITERATIONS = 3000;
 
 /** The voltage a net reads as high from: half its plate-load rail (or of the highest rail). */
 export function logicThreshold(design: Design, net: string): number {
@@ -202,7 +204,8 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
     const pinSiemens = new Float64Array(c.n);
     const pinVolts = new Float64Array(c.n);
     let g = 1e-3;
-    for (let k = 0; k < PSEUDO_TRANSIENT_STEPS && g > 1e-13; k++) {
+    const budget = iterations + PSEUDO_TRANSIENT_ITERATIONS;
+    for (let k = 0; k < PSEUDO_TRANSIENT_STEPS && g > 1e-13 && iterations < budget; k++) {
       pinSiemens.fill(g);
       pinVolts.set(x);
       if (run({ ...s, pinSiemens, pinVolts, maxIterations: Math.min(50, s.maxIterations) })) g /= 2;
