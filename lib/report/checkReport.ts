@@ -342,7 +342,9 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
   const verdict =
     r.verdict === 'pass'
       ? `PASS: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}).`
-      : `FAIL: ${failWords} fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.${overRating}`;
+      : failing.length + badLatches.length === 0 && r.settled && r.ratings?.ok === false
+        ? `FAIL: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}), but parts run over their ratings (below).`
+        : `FAIL: ${failWords} fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.${overRating}`;
   out.push(...wrap(verdict, REPORT_COLUMNS));
   if (!r.settled) out.push(...wrap(`The worst-case levels around a loop did not settle in ${r.rounds} rounds.`, REPORT_COLUMNS));
   out.push('');

@@ -54,7 +54,9 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
   const verdict =
     check.verdict === 'pass'
       ? `PASS: every net keeps ${v(check.requiredMargin)} V of margin${check.latches.length ? ' and every latch holds and switches' : ''} in worst case.`
-      : `FAIL: ${failing} of ${check.nets.length} nets fail in worst case; required margin ${v(check.requiredMargin)} V.`;
+      : failing === 0 && check.ratings?.ok === false
+        ? `FAIL: every net keeps ${v(check.requiredMargin)} V of margin in worst case, but parts run over their ratings.`
+        : `FAIL: ${failing} of ${check.nets.length} nets fail in worst case; required margin ${v(check.requiredMargin)} V.`;
   const weakestNet = check.nets[0];
   const weakestLine = weakestNet ? `<p class="weakest">The weakest net is <strong id="weakest">${e(weakestNet.name)}</strong>${weakestNet.reasons[0] ? `: ${e(weakestNet.reasons[0])}` : ''}.</p>` : '';
   parts.push(`<header><h1>${e(title)}</h1><p class="source">${e(source)} · ageing: ${e(check.scenario.name)} (${e(check.scenario.summary)})</p><p id="verdict" class="verdict ${check.verdict}">${e(verdict)}</p>${weakestLine}</header>`);

@@ -48,3 +48,14 @@ describe('no NaN, Infinity or unexplained null in any output', () => {
     }
   });
 });
+
+describe('a verdict that fails only on ratings says so', () => {
+  it('does not print "0 of N nets fail" under FAIL when every net passes and a part runs over its rating', async () => {
+    // 1 kΩ across 150 V takes 22.5 W, far over a 0.5 W rating (Joule's law, P = V²/R).
+    const text = `rail bp = 150 V\nrail bias = -50 V\nresistor HOT (bp, gnd) 1 k\nbutton B (s, bp)\nresistor RS (s, bias) 100 k\nstage y { tube "12AU7"; load 47 k to bp; input s series 470 k pulldown 470 k to bias }\nresistor RY (y, gnd) 1 M\n`;
+    const r = await runCommand(['check', 'd.tube'], { 'd.tube': text });
+    expect(r.code).toBe(1);
+    expect(r.out).not.toMatch(/FAIL: 0 of/);
+    expect(r.out).toMatch(/FAIL: every net keeps .* but parts run over their ratings/s);
+  });
+});
