@@ -199,6 +199,14 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
 
 /** Entry point of the `tubemargin` binary. */
 export function runFromProcess(): void {
+  // A reader that stops early (`| head`) closes the pipe: the rest of the output has nowhere
+  // to go, which is no error of the run. Stop quietly, as command-line tools do.
+  for (const stream of [process.stdout, process.stderr]) {
+    stream.on('error', (e: NodeJS.ErrnoException) => {
+      if (e.code === 'EPIPE') process.exit(process.exitCode ?? 0);
+      throw e;
+    });
+  }
   runCli(process.argv.slice(2), processIo()).then((code) => {
     process.exitCode = code;
   });
