@@ -21,6 +21,7 @@ import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 import { refuseToOverwrite, writeReport } from './report.js';
 import { readSequence } from './step.js';
+import { append } from '../lib/lists.js';
 
 export const PULSE_SUMMARY = 'simulate the design in time under input waveforms: states, delays, fastest clock';
 
@@ -202,9 +203,9 @@ function limitJson(l: ClockLimitResult) {
 
 function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string, Waveform>, stop: number, misses: { net: string; high: boolean }[], limit: ClockLimitResult | undefined): string[] {
   const out = [`${title || '(untitled design)'} — ${file}`];
-  out.push(...wrap(`Simulated ${si(stop, 's')} in ${r.run.accepted} steps (${r.run.rejected} taken again): trapezoidal rule, steps by truncation error.`, 80, ''));
-  for (const [name, w] of inputs) out.push(...wrap(`${name} = ${w.text}`, 78, '  ').map((line) => `  ${line}`));
-  if (!r.run.ok) out.push(...wrap(`The run stopped early: ${r.run.diagnostics.find((d) => d.severity === 'error')?.message ?? 'no reason given'}.`, 80, ''));
+  append(out, wrap(`Simulated ${si(stop, 's')} in ${r.run.accepted} steps (${r.run.rejected} taken again): trapezoidal rule, steps by truncation error.`, 80, ''));
+  for (const [name, w] of inputs) append(out, wrap(`${name} = ${w.text}`, 78, '  ').map((line) => `  ${line}`));
+  if (!r.run.ok) append(out, wrap(`The run stopped early: ${r.run.diagnostics.find((d) => d.severity === 'error')?.message ?? 'no reason given'}.`, 80, ''));
   out.push('Watched nets, in the order of the state column:');
   r.nets.forEach((n, i) => out.push(`  ${String(i + 1).padStart(2)}. ${n}`));
   out.push('');
@@ -212,19 +213,14 @@ function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string,
     // Only steady levels and points: no pulse to judge, so the state the run ends in.
     const end = r.run.times[r.run.times.length - 1]!;
     out.push(`No clock or pulse input; the state at the end (${si(end, 's')}): ${bits(r.statesAt(r.nets, end))}`, '');
-  } else out.push(
-    ...table(
-      ['  pulse', 'input', 'at', 'state after', 'flipped'],
-      r.pulses.map((p, i) => [`  ${i + 1}`, p.input, si(p.at, 's'), bits(p.states), p.flipped.length === 0 ? 'none' : p.flipped]),
-      [7, 12, 10, 24],
-    ),
-    '  (state after: each watched net just before the next pulse, 1 high, 0 low)',
-    '',
-  );
+  } else {
+    append(out, table(['  pulse', 'input', 'at', 'state after', 'flipped'], r.pulses.map((p, i) => [`  ${i + 1}`, p.input, si(p.at, 's'), bits(p.states), p.flipped.length === 0 ? 'none' : p.flipped]), [7, 12, 10, 24]));
+    out.push('  (state after: each watched net just before the next pulse, 1 high, 0 low)', '');
+  }
   const stages = [...r.stages].sort((a, b) => (b.delay?.seconds ?? 0) - (a.delay?.seconds ?? 0)).slice(0, 10);
   if (stages.length > 0) {
     out.push(`Stages that switched, longest delay first (${Math.min(10, r.stages.length)} of ${r.stages.length}); rise and fall 10–90 %:`);
-    out.push(...table(['  stage', 'delay', 'from', 'rise', 'fall', 'switched'], stages.map((s) => [`  ${s.stage}`, si(s.delay?.seconds, 's'), s.delay?.from ?? '', si(s.rise, 's'), si(s.fall, 's'), `${s.transitions}×`]), [16, 10, 12, 10, 10]));
+    append(out, table(['  stage', 'delay', 'from', 'rise', 'fall', 'switched'], stages.map((s) => [`  ${s.stage}`, si(s.delay?.seconds, 's'), s.delay?.from ?? '', si(s.rise, 's'), si(s.fall, 's'), `${s.transitions}×`]), [16, 10, 12, 10, 10]));
     out.push('');
   }
   for (const m of misses) {
@@ -233,9 +229,9 @@ function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string,
     const name = latch?.join('/');
     const flips = name ? r.pulses.filter((p) => p.flipped.includes(name)).length : 0;
     const said = latch ? `: latch ${name} flipped on ${flips === 0 ? 'no pulse' : `${flips} of ${r.pulses.length} pulses`}` : '';
-    out.push(...wrap(`Expected ${m.net}=${m.high ? 1 : 0} at the end, NOT met${said}.`, 80, ''));
+    append(out, wrap(`Expected ${m.net}=${m.high ? 1 : 0} at the end, NOT met${said}.`, 80, ''));
   }
-  if (limit) out.push(...limitText(limit));
+  if (limit) append(out, limitText(limit));
   return out;
 }
 
@@ -252,14 +248,14 @@ function limitText(l: ClockLimitResult): string[] {
           .join(', ')}${f.wrong.length > 4 ? ` and ${f.wrong.length - 4} more nets are wrong` : ''}`
     : '';
   if (l.passing === undefined) {
-    out.push(...wrap(`Fastest clock: FAILS at the given period, ${si(l.givenPeriod, 's')}, in the ${f!.corner} corner (${corner(f!.corner).description}): ${what}.`, 80, ''));
+    append(out, wrap(`Fastest clock: FAILS at the given period, ${si(l.givenPeriod, 's')}, in the ${f!.corner} corner (${corner(f!.corner).description}): ${what}.`, 80, ''));
     return out;
   }
   const rate = (p: number) => si(1 / p, 'Hz');
-  out.push(...wrap(`Fastest clock in worst case: a period of ${si(l.passing, 's')} (${rate(l.passing)}) counts as the given clock does in every corner (${TIMING_CORNERS.map((c) => c.name).join(', ')}).`, 80, ''));
-  if (f) out.push(...wrap(`At ${si(f.period, 's')} it fails in the ${f.corner} corner (${corner(f.corner).description}): ${what}.`, 80, ''));
+  append(out, wrap(`Fastest clock in worst case: a period of ${si(l.passing, 's')} (${rate(l.passing)}) counts as the given clock does in every corner (${TIMING_CORNERS.map((c) => c.name).join(', ')}).`, 80, ''));
+  if (f) append(out, wrap(`At ${si(f.period, 's')} it fails in the ${f.corner} corner (${corner(f.corner).description}): ${what}.`, 80, ''));
   else out.push(`It still counted at ${si(l.passing, 's')}, the shortest period tried.`);
-  if (l.limiting) out.push(...wrap(`Limiting stage: ${l.limiting.stage} (delay ${si(l.limiting.delay?.seconds, 's')} from ${l.limiting.delay?.from ?? '—'}, rise ${si(l.limiting.rise, 's')}, fall ${si(l.limiting.fall, 's')} at ${si(l.passing, 's')}).`, 80, ''));
+  if (l.limiting) append(out, wrap(`Limiting stage: ${l.limiting.stage} (delay ${si(l.limiting.delay?.seconds, 's')} from ${l.limiting.delay?.from ?? '—'}, rise ${si(l.limiting.rise, 's')}, fall ${si(l.limiting.fall, 's')} at ${si(l.passing, 's')}).`, 80, ''));
   out.push(`${l.runs} simulations.`);
   return out;
 }

@@ -2,6 +2,7 @@ import { checkMargins, parseSequence, stepDesign, type SequenceAction } from '..
 import { table, wrap } from '../lib/report/format.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
+import { append } from '../lib/lists.js';
 
 export const STEP_SUMMARY = 'step the design through a sequence of inputs: the state after each step';
 
@@ -72,8 +73,7 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
   const out = [`${loaded.design.title || '(untitled design)'} — ${file}`, 'Watched nets, in the order of the state column:'];
   r.nets.forEach((n, i) => out.push(`  ${String(i + 1).padStart(2)}. ${n}`));
   out.push('');
-  out.push(
-    ...table(
+  append(out, table(
       ['  step', 'action', 'state', 'margin', 'expected'],
       r.rows.map((row, i) => [
         `  ${i}`,
@@ -83,11 +83,10 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
         row.expected.length === 0 ? '' : row.expected.every((e) => e.ok) ? 'held' : row.expected.filter((e) => !e.ok).map((e) => `NOT ${e.net}=${e.high ? 1 : 0}`),
       ]),
       [6, 28, 12, 18],
-    ),
-  );
+    ));
   out.push('  (state: 1 high, 0 low, a digit a watched net; margin: the smallest worst-case');
   out.push('  noise margin of the watched nets in their present states, volts, and whose)');
-  for (const [i, row] of r.rows.entries()) if (row.why !== undefined) out.push(...wrap(`Step ${i} has no solution: ${row.why}.`, 80));
+  for (const [i, row] of r.rows.entries()) if (row.why !== undefined) append(out, wrap(`Step ${i} has no solution: ${row.why}.`, 80));
   io.stdout(out.join('\n') + '\n');
   return r.ok ? EXIT.ok : EXIT.failed;
 }

@@ -12,7 +12,7 @@ import { latchCheck, type LatchResult } from './latchCheck.js';
 import type { LocalParameter } from './localProblem.js';
 import { receiverThresholds } from './receiverThresholds.js';
 import type { TransferCurve } from './staticNoiseMargin.js';
-import { highest, lowest } from '../extremes.js';
+import { highest, lowest } from '../lists.js';
 
 export interface CheckOptions {
   /** The noise margin every net must keep (volts); the design's own setting when absent. */

@@ -1,6 +1,6 @@
 import type { Part } from '../design/model.js';
 import type { LevelChain } from './levelChain.js';
-import { lowest } from '../extremes.js';
+import { lowest } from '../lists.js';
 
 /** One standard load: the input divider and grid of the design's most common receiving input. */
 export interface StandardLoad {

@@ -5,7 +5,7 @@ import { compileCircuit } from '../solve/circuit.js';
 import { DcSystem } from '../solve/dcSystem.js';
 import { withinSpan } from '../solve/voltageSpan.js';
 import { RESIDUAL_LIMIT, solveOperatingPoint, type OperatingPoint, type SolveOptions } from '../solve/operatingPoint.js';
-import { highest, lowest } from '../extremes.js';
+import { highest, lowest } from '../lists.js';
 
 /**
  * A design with one net held by a stiff source whose level changes between solves without

@@ -6,7 +6,7 @@ import type { AgeingScenario } from './ageing.js';
 import { LocalProblem, regionParameters, type LocalParameter } from './localProblem.js';
 import { buildRegion, indexDesign, type DesignIndex, type Region } from './region.js';
 import { searchVertex, type Band } from './vertex.js';
-import { highest, lowest } from '../extremes.js';
+import { highest, lowest } from '../lists.js';
 
 /** How a net's level is set: by inverting stages (plates: NOR), by followers (cathodes: OR), or from outside. */
 export type NetPolarity = 'inverting' | 'follower' | 'mixed' | 'input';

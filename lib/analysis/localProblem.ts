@@ -8,7 +8,7 @@ import { emissionBand, type AgeingScenario } from './ageing.js';
 import { localDesign } from './localDesign.js';
 import type { Region } from './region.js';
 import type { Band, Probe } from './vertex.js';
-import { highest, lowest } from '../extremes.js';
+import { highest, lowest } from '../lists.js';
 
 /**
  * One toleranced quantity of a local problem. Kinds beyond the design's own parameters:

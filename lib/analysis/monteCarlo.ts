@@ -5,7 +5,7 @@ import { findScenario, type AgeingScenario } from './ageing.js';
 import type { CheckResult } from './check.js';
 import { LocalProblem, regionParameters, type LocalParameter } from './localProblem.js';
 import { buildRegion, indexDesign } from './region.js';
-import { highest, lowest } from '../extremes.js';
+import { highest, lowest } from '../lists.js';
 
 /**
  * How each toleranced value is drawn: uniform over its band; normal with the band's half

@@ -1,4 +1,4 @@
-import { highest } from '../extremes.js';
+import { highest } from '../lists.js';
 
 /** A sampled transfer curve: output against input, inputs strictly increasing. */
 export interface TransferCurve {

@@ -2,7 +2,7 @@ import { GROUND, type Design } from '../design/model.js';
 import type { StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold } from '../solve/operatingPoint.js';
 import type { TransientResult } from '../solve/transient.js';
-import { highest, lowest } from '../extremes.js';
+import { highest, lowest } from '../lists.js';
 
 /** One crossing of a net's logic threshold. */
 interface Crossing {

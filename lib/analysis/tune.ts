@@ -4,7 +4,7 @@ import { error, type Diagnostic } from '../source/diagnostic.js';
 import type { AgeingScenario } from './ageing.js';
 import { checkMargins, type CheckResult } from './check.js';
 import { DERATING } from './ratings.js';
-import { lowest } from '../extremes.js';
+import { lowest } from '../lists.js';
 
 export interface TuneOptions {
   /** The stage (its output net) whose resistors are chosen. */

@@ -2,6 +2,7 @@ import type { Statement } from '../netlist/ast.js';
 import { parseDesignText } from '../netlist/parser.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import type { SourceSpan } from '../source/span.js';
+import { append } from '../lists.js';
 
 /**
  * Reads an included file for the library, which never touches the file system itself.
@@ -44,14 +45,14 @@ export function collectSources(file: string, text: string, loader: SourceLoader 
       return [];
     }
     const parsed = parseDesignText(body, name);
-    diagnostics.push(...parsed.diagnostics);
+    append(diagnostics, parsed.diagnostics);
     const out: Statement[] = [];
     for (const st of parsed.value.statements) {
       if (st.kind !== 'include') {
         out.push(st);
         continue;
       }
-      out.push(...include(st.path, st.pathSpan, name, [...stack, name]));
+      append(out, include(st.path, st.pathSpan, name, [...stack, name]));
     }
     return out;
   };

@@ -1,6 +1,7 @@
 import { error, warning, type Diagnostic } from '../source/diagnostic.js';
 import type { SourceSpan } from '../source/span.js';
 import { GROUND, partPins, type Design, type Part } from './model.js';
+import { append } from '../lists.js';
 
 /**
  * Checks a flat design for wiring a builder would want to hear about before any analysis:
@@ -82,7 +83,7 @@ export function validateDesign(design: Design, file: string): Diagnostic[] {
     }
   }
 
-  out.push(...switchShorts(design));
+  append(out, switchShorts(design));
 
   // Screens.
   const models = new Map(design.models.map((m) => [m.name, m]));

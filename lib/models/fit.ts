@@ -1,7 +1,7 @@
 import type { ModelKind, TubeModel } from '../design/model.js';
 import { NOMINAL_VARIATION, tubeCurrents } from './tubeEquations.js';
 import { MODEL_KINDS } from './kinds.js';
-import { highest, lowest } from '../extremes.js';
+import { highest, lowest } from '../lists.js';
 
 /** One bench reading of one tube: electrode voltages against the cathode, and the currents measured. */
 export interface Reading {

@@ -9,7 +9,7 @@ import { cutList, formatSI, table, wrap } from './format.js';
 import { figure, named, WHY_SUFFIX } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
-import { lowest } from '../extremes.js';
+import { append, lowest } from '../lists.js';
 
 /** The JSON form of a check, `tubemargin.report/1`: its own type, not the analysis's. */
 export interface ReportJson {
@@ -253,13 +253,11 @@ function renderSamples(mc: MonteCarloResult, required: number): string[] {
     '  ',
   );
   const weakest = [...mc.nets].sort((a, b) => a.p1 - b.p1).slice(0, 8);
-  out.push(
-    ...table(
+  append(out, table(
       ['  net', 'min', '1 %', 'median', 'failed'],
       weakest.map((n) => ['  ' + n.net, v(n.min), v(n.p1), v(n.median), String(n.failures)]),
       [26, 7, 7, 7],
-    ),
-  );
+    ));
   out.push('  (noise margin in volts over the samples, smallest 1st percentile first)');
   if (mc.correlated.length > 0) {
     out.push('  The parts whose values go most with failing builds (correlation):');
@@ -274,18 +272,18 @@ function renderRatings(g: Ratings): string[] {
   const out = [`Ratings and budgets${g.ok ? '' : ': OVER RATING'}`];
   const overSections = g.sections.filter((s) => !s.ok);
   const overResistors = g.resistors.filter((r) => !r.ok);
-  for (const s of overSections) out.push(...indented(`${s.section} dissipates up to ${formatSI(s.plateWatts, 'W')} on its plate and ${formatSI(s.screenWatts, 'W')} on its screen, over its rating (${formatSI(s.plateRating ?? NaN, 'W')}${s.screenRating === undefined ? '' : `, ${formatSI(s.screenRating, 'W')}`})`, '  ', '    '));
-  for (const r of overResistors.slice(0, 8)) out.push(...indented(`${r.resistor} takes up to ${formatSI(r.watts, 'W')}, ${Math.round(r.share * 100)} % of its ${formatSI(r.rating, 'W')} rating (keep it under ${Math.round(DERATING * 100)} %)`, '  ', '    '));
+  for (const s of overSections) append(out, indented(`${s.section} dissipates up to ${formatSI(s.plateWatts, 'W')} on its plate and ${formatSI(s.screenWatts, 'W')} on its screen, over its rating (${formatSI(s.plateRating ?? NaN, 'W')}${s.screenRating === undefined ? '' : `, ${formatSI(s.screenRating, 'W')}`})`, '  ', '    '));
+  for (const r of overResistors.slice(0, 8)) append(out, indented(`${r.resistor} takes up to ${formatSI(r.watts, 'W')}, ${Math.round(r.share * 100)} % of its ${formatSI(r.rating, 'W')} rating (keep it under ${Math.round(DERATING * 100)} %)`, '  ', '    '));
   if (overResistors.length > 8) out.push(`  and ${overResistors.length - 8} more resistors over ${Math.round(DERATING * 100)} % of their rating`);
   const hot = g.sections[0];
-  if (hot) out.push(...indented(`Most plate dissipation, worst case: ${hot.section}, ${formatSI(hot.plateWatts, 'W')}${hot.plateRating === undefined ? '' : ` of ${formatSI(hot.plateRating, 'W')}`}; most loaded resistor: ${g.resistors[0] ? `${g.resistors[0].resistor}, ${Math.round(g.resistors[0].share * 100)} % of its rating` : 'none'}.`, '  ', '    '));
-  if (g.rails.some((r) => !Number.isFinite(r.amps))) out.push(...indented('Rail currents: not measured, because the nominal operating point did not converge (run solve to see where).', '  ', '    '));
-  else if (g.rails.length > 0) out.push(...indented(`Rails at the nominal operating point: ${g.rails.map((r) => `${r.rail} ${formatSI(r.amps, 'A')} (${formatSI(Math.abs(r.watts), 'W')})`).join(', ')}.`, '  ', '    '));
+  if (hot) append(out, indented(`Most plate dissipation, worst case: ${hot.section}, ${formatSI(hot.plateWatts, 'W')}${hot.plateRating === undefined ? '' : ` of ${formatSI(hot.plateRating, 'W')}`}; most loaded resistor: ${g.resistors[0] ? `${g.resistors[0].resistor}, ${Math.round(g.resistors[0].share * 100)} % of its rating` : 'none'}.`, '  ', '    '));
+  if (g.rails.some((r) => !Number.isFinite(r.amps))) append(out, indented('Rail currents: not measured, because the nominal operating point did not converge (run solve to see where).', '  ', '    '));
+  else if (g.rails.length > 0) append(out, indented(`Rails at the nominal operating point: ${g.rails.map((r) => `${r.rail} ${formatSI(r.amps, 'A')} (${formatSI(Math.abs(r.watts), 'W')})`).join(', ')}.`, '  ', '    '));
   for (const h of g.heaters) {
     const strings = h.strings.map((s) => `${s.strings} strings of ${s.perString} across ${s.rail} with ${formatSI(s.droppingOhms, 'Ω')} (${formatSI(s.droppingWatts, 'W')}) each`).join('; or ');
-    out.push(...indented(`Heaters, ${h.model} (${h.designation}): ${h.envelopes} envelopes at ${h.volts} V, ${formatSI(h.amps, 'A')} each, ${formatSI(h.envelopes * h.amps, 'A')} in parallel${strings ? `; or ${strings}` : ''}.`, '  ', '    '));
+    append(out, indented(`Heaters, ${h.model} (${h.designation}): ${h.envelopes} envelopes at ${h.volts} V, ${formatSI(h.amps, 'A')} each, ${formatSI(h.envelopes * h.amps, 'A')} in parallel${strings ? `; or ${strings}` : ''}.`, '  ', '    '));
   }
-  for (const f of g.followers) out.push(...indented(`${f.section}, a cathode follower: ${v(f.volts)} V heater to cathode${f.rating === undefined ? '' : ` against ${f.rating} V`}${f.ok ? '' : ': OVER'}`, '  ', '    '));
+  for (const f of g.followers) append(out, indented(`${f.section}, a cathode follower: ${v(f.volts)} V heater to cathode${f.rating === undefined ? '' : ` against ${f.rating} V`}${f.ok ? '' : ': OVER'}`, '  ', '    '));
   return out;
 }
 
@@ -345,12 +343,11 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
       : failing.length + badLatches.length === 0 && r.settled && r.ratings?.ok === false
         ? `FAIL: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}), but parts run over their ratings (below).`
         : `FAIL: ${failWords} fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.${overRating}`;
-  out.push(...wrap(verdict, REPORT_COLUMNS));
-  if (!r.settled) out.push(...wrap(`The worst-case levels around a loop did not settle in ${r.rounds} rounds.`, REPORT_COLUMNS));
+  append(out, wrap(verdict, REPORT_COLUMNS));
+  if (!r.settled) append(out, wrap(`The worst-case levels around a loop did not settle in ${r.rounds} rounds.`, REPORT_COLUMNS));
   out.push('');
   out.push(`Nets, weakest first (${r.nets.length})`);
-  out.push(
-    ...table(
+  append(out, table(
       ['  net', 'drv', 'fan', 'high', 'low', 'NM_H', 'NM_L', 'cutoff', 'more', 'status'],
       r.nets.map((n) => [
         '  ' + n.name,
@@ -365,16 +362,14 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
         `${marginBar(n, r.requiredMargin)} ${statusText(n)}`,
       ]),
       [16, 3, 3, 7, 7, 7, 7, 6, 4],
-    ),
-  );
+    ));
   out.push('  (volts, worst case; drv: sections driving it, "in" for an input; more:');
   out.push('  extra standard loads it can take; the bar: the smaller noise margin, with');
   out.push('  the required one at its middle; drive margins are in --json)');
   if (r.latches.length > 0) {
     out.push('');
     out.push(`Latches (${r.latches.length})`);
-    out.push(
-      ...table(
+    append(out, table(
         ['  latch', 'holds', 'SNM', 'input', 'switches', 'trigger'],
         r.latches.flatMap((l) => {
           const head = ['  ' + l.nets.join(' ↔ '), l.holds ? 'yes' : 'NO', `${v(l.snm.worst)}`];
@@ -387,8 +382,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
           ]);
         }),
         [26, 5, 6, 14, 9],
-      ),
-    );
+      ));
     out.push('  (SNM and trigger margin in volts, worst case)');
   }
   // The three weakest, one per class: nets alike are named with the first.
@@ -405,27 +399,27 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
           : n.weakest?.what === 'low'
             ? `worst low ${v(n.low?.worst)} V, NM_L ${v(n.margin.low)} V`
             : `worst high ${v(n.high?.worst)} V, NM_H ${v(n.margin.high)} V`);
-      out.push(...indented(`${k + 1}. ${n.name} (${statusText(n)}): ${summary}`, '', '     '));
+      append(out, indented(`${k + 1}. ${n.name} (${statusText(n)}): ${summary}`, '', '     '));
       const alike = judged.filter((m) => m.classId === n.classId && m !== n).map((m) => m.name);
       if (alike.length > 0) out.push(`   alike: ${cutList(alike, REPORT_COLUMNS - 10)}`);
-      for (const reason of n.reasons.slice(1)) out.push(...indented(`also: ${reason}`, '   ', '     '));
+      for (const reason of n.reasons.slice(1)) append(out, indented(`also: ${reason}`, '   ', '     '));
       if (n.weakest && n.weakest.causes.length > 0) {
         out.push(`   its worst ${n.weakest.what === 'low' ? 'low level' : 'high level'} comes from:`);
-        for (const c of n.weakest.causes) out.push(...indented(describeCause(c), '     ', '       '));
+        for (const c of n.weakest.causes) append(out, indented(describeCause(c), '     ', '       '));
       }
     });
   }
   for (const l of badLatches) {
     out.push('');
-    out.push(...indented(`Latch ${l.nets.join(' ↔ ')}: ${l.holds ? 'holds' : 'does NOT hold'}${l.reasons.length ? ': ' + l.reasons.join('; ') : ''}`, '', '  '));
-    for (const i of l.inputs) if (!i.switches && i.note === undefined) out.push(...indented(`${i.input} at its weakest asserted level ${v(i.asserted)} V does not switch it`, '  ', '    '));
+    append(out, indented(`Latch ${l.nets.join(' ↔ ')}: ${l.holds ? 'holds' : 'does NOT hold'}${l.reasons.length ? ': ' + l.reasons.join('; ') : ''}`, '', '  '));
+    for (const i of l.inputs) if (!i.switches && i.note === undefined) append(out, indented(`${i.input} at its weakest asserted level ${v(i.asserted)} V does not switch it`, '  ', '    '));
   }
   if (r.ratings) out.push('', ...renderRatings(r.ratings));
   if (mc) out.push('', ...renderSamples(mc, r.requiredMargin));
   if (shrunk) out.push('', ...renderShrink(shrunk));
   out.push('');
   out.push('What the figures mean');
-  for (const [k, text] of Object.entries(DEFINITIONS)) out.push(...indented(`${k}: ${text}`, '  ', '    '));
+  for (const [k, text] of Object.entries(DEFINITIONS)) append(out, indented(`${k}: ${text}`, '  ', '    '));
   const cautions = safetyCautions(design);
   if (cautions.length > 0) out.push('', ...cautions.flatMap((c) => wrap(c, REPORT_COLUMNS)));
   return out.join('\n') + '\n';

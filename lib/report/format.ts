@@ -1,4 +1,4 @@
-import { highest } from '../extremes.js';
+import { highest } from '../lists.js';
 
 export { formatSI } from '../netlist/units.js';
 

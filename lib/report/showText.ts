@@ -2,6 +2,7 @@ import { GROUND, isGeneratedName, type Design, type Resistor } from '../design/m
 import { compareNames, type StageGraph } from '../graph/stageGraph.js';
 import { cutList, formatSI, formatTolerance, table, wrap } from './format.js';
 import { safetyCautions } from './safety.js';
+import { append } from '../lists.js';
 
 /** Width the terminal report is laid out for. */
 export const REPORT_COLUMNS = 80;
@@ -21,7 +22,7 @@ export function renderShow(design: Design, graph: StageGraph, source: string): s
     [GROUND, '0 V', '', 'ground'],
     ...design.rails.map((r) => [r.name, formatSI(r.volts, 'V'), r.tol > 0 ? formatTolerance(r.tol) : 'exact', r.sourceOhms > 0 ? `source ${formatSI(r.sourceOhms, 'Ω')}` : 'stiff']),
   ];
-  out.push(...table(['  rail', 'volts', 'tol', 'source'], railRows.map((r) => ['  ' + r[0], ...r.slice(1)])));
+  append(out, table(['  rail', 'volts', 'tol', 'source'], railRows.map((r) => ['  ' + r[0], ...r.slice(1)])));
   out.push('');
 
   out.push(`Tube types (${design.models.length})`);
@@ -34,7 +35,7 @@ export function renderShow(design: Design, graph: StageGraph, source: string): s
           : `mu ${m.mu}, ex ${m.ex}, kg1 ${m.kg1}, kg2 ${m.kg2}, kp ${m.kp}, kvb ${m.kvb}`;
     const from = m.library ? `, library "${m.library}"` : '';
     out.push(`  ${m.name}: ${m.kind}${from}, spread ${formatTolerance(m.spread)}`);
-    out.push(...wrap(`${params}, rgi ${formatSI(m.rgi, 'Ω')}, vgamma ${m.vgamma} V`, REPORT_COLUMNS - 4, '    ').map((l) => '    ' + l.trimStart()));
+    append(out, wrap(`${params}, rgi ${formatSI(m.rgi, 'Ω')}, vgamma ${m.vgamma} V`, REPORT_COLUMNS - 4, '    ').map((l) => '    ' + l.trimStart()));
   }
   out.push('');
 
@@ -62,7 +63,7 @@ export function renderShow(design: Design, graph: StageGraph, source: string): s
     const inputs = graph.graph.predecessors(n.name) ?? [];
     return ['  ' + n.name, types, String(n.drivers.length), loadText, [...inputs].sort(compareNames)];
   });
-  out.push(...table(['  net', 'tube', 'sections', 'load', 'inputs from'], stageRows, [20, 14, 8, 12]));
+  append(out, table(['  net', 'tube', 'sections', 'load', 'inputs from'], stageRows, [20, 14, 8, 12]));
   out.push('');
 
   out.push(`Nets (${graph.nets.length})`);
@@ -71,7 +72,7 @@ export function renderShow(design: Design, graph: StageGraph, source: string): s
     const driver = n.kind === 'input' ? 'input' : n.drivers.length === 1 ? n.drivers[0]! : `${n.drivers.length} sections`;
     return ['  ' + n.name, driver, String(n.fanout), receivers];
   });
-  out.push(...table(['  net', 'driver', 'fan-out', 'feeds'], netRows, [20, 16, 7]));
+  append(out, table(['  net', 'driver', 'fan-out', 'feeds'], netRows, [20, 16, 7]));
   out.push('');
 
   out.push(`Loops (${graph.loops.length})`);
@@ -90,7 +91,7 @@ export function renderShow(design: Design, graph: StageGraph, source: string): s
   }
   const generated = design.parts.filter((p) => isGeneratedName(p.name)).length;
   const parts = [...counts].map(([k, n]) => `${n} ${k}${n === 1 ? '' : k === 'switch' ? 'es' : 's'}`).join(', ');
-  out.push(...wrap(`Parts: ${design.parts.length} (${parts || 'none'}); ${generated} named by the tool`, REPORT_COLUMNS));
+  append(out, wrap(`Parts: ${design.parts.length} (${parts || 'none'}); ${generated} named by the tool`, REPORT_COLUMNS));
   const cautions = safetyCautions(design);
   if (cautions.length > 0) out.push('', ...cautions.flatMap((c) => wrap(c, REPORT_COLUMNS)));
   return out.join('\n') + '\n';

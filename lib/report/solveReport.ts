@@ -6,6 +6,7 @@ import { formatSI, table, wrap } from './format.js';
 import { figure } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
+import { append } from '../lists.js';
 
 /** The JSON form of an operating point, `tubemargin.solve/1`: its own type, not the solver's. */
 export interface SolveJson {
@@ -55,7 +56,7 @@ export function solveToJson(design: Design, op: OperatingPoint): SolveJson {
   };
 }
 
-const v2 = (x: number) => x.toFixed(2);
+const v2 = (x: number) => (Number.isFinite(x) ? x.toFixed(2) : '—');
 
 /**
  * The text of `tubemargin solve`: how the solution was reached and how well it satisfies
@@ -66,12 +67,10 @@ const v2 = (x: number) => x.toFixed(2);
 export function renderSolve(design: Design, op: OperatingPoint, source: string): string {
   const out: string[] = [];
   out.push(`${design.title || '(untitled design)'} — ${source}`);
-  out.push(
-    ...wrap(
-      `${op.converged ? 'Solved' : 'NOT CONVERGED'} by ${op.method} in ${op.iterations} Newton iterations; largest KCL residual ${op.residualAmps.toExponential(1)} A (limit 1 nA).`,
+  append(out, wrap(
+      `${op.converged ? 'Solved' : 'NOT CONVERGED'} by ${op.method} in ${op.iterations} Newton iterations; largest KCL residual ${Number.isFinite(op.residualAmps) ? `${op.residualAmps.toExponential(1)} A` : 'not measurable (the solve broke down)'} (limit 1 nA).`,
       REPORT_COLUMNS,
-    ),
-  );
+    ));
   if (op.hints.length > 0) {
     out.push('');
     out.push('Started from');
@@ -79,13 +78,12 @@ export function renderSolve(design: Design, op: OperatingPoint, source: string):
       out.push(`  ${h.net}=${h.high ? 1 : 0}${h.assumed ? ' (chosen by the tool; --hint picks another state)' : ''}: ${h.held ? 'held' : 'NOT HELD'} at ${v2(h.volts)} V`);
     }
   }
-  for (const d of op.diagnostics) out.push(...wrap(`${d.severity}: ${d.message}`, REPORT_COLUMNS));
+  for (const d of op.diagnostics) append(out, wrap(`${d.severity}: ${d.message}`, REPORT_COLUMNS));
   out.push('');
   const nets = [...op.nodes.keys()].sort(compareNames);
   const rails = new Set(['gnd', ...design.rails.map((r) => r.name)]);
   out.push(`Nets (${nets.length})`);
-  out.push(
-    ...table(
+  append(out, table(
       ['  net', 'volts', 'reads'],
       nets.map((n) => {
         const volts = op.nodes.get(n)!;
@@ -93,12 +91,10 @@ export function renderSolve(design: Design, op: OperatingPoint, source: string):
         return ['  ' + n, v2(volts).padStart(8), reads];
       }),
       [30, 8],
-    ),
-  );
+    ));
   out.push('');
   out.push(`Sections (${op.tubes.length})`);
-  out.push(
-    ...table(
+  append(out, table(
       ['  section', 'Vak', 'Vgk', 'Vg2k', 'Ia', 'Ig', 'Ig2', 'Pa'],
       op.tubes.map((t) => [
         '  ' + t.name,
@@ -111,17 +107,14 @@ export function renderSolve(design: Design, op: OperatingPoint, source: string):
         formatSI(t.plateWatts, 'W'),
       ]),
       [18, 7, 6, 6, 9, 9, 9],
-    ),
-  );
+    ));
   out.push('');
   out.push(`Resistors (${op.resistors.length})`);
-  out.push(
-    ...table(
+  append(out, table(
       ['  resistor', 'current', 'power', 'rating', 'of rating'],
       op.resistors.map((r) => ['  ' + r.name, formatSI(Math.abs(r.amps), 'A'), formatSI(r.watts, 'W'), formatSI(r.ratingWatts, 'W'), `${Math.round((100 * r.watts) / r.ratingWatts)} %`]),
       [20, 9, 9, 8],
-    ),
-  );
+    ));
   const cautions = safetyCautions(design);
   if (cautions.length > 0) out.push('', ...cautions.flatMap((c) => wrap(c, REPORT_COLUMNS)));
   return out.join('\n') + '\n';

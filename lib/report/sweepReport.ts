@@ -4,7 +4,7 @@ import { wrap } from './format.js';
 import { figure, named, type Figure } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
-import { highest } from '../extremes.js';
+import { append, highest } from '../lists.js';
 
 /** The JSON form of a supply sweep, `tubemargin.sweep/1`. */
 export interface SweepJson {
@@ -48,7 +48,7 @@ const volts = (v: number) => `${Number(v.toPrecision(4))} V`;
 export function renderSweep(design: Design, r: RailSweepResult, source: string): string {
   const out: string[] = [`${design.title || '(untitled design)'} — ${source}`];
   const [a1, a2] = r.axes;
-  out.push(...wrap(`Worst-case check at every point, heaters at ${Math.round(r.heater * 100)} % of their voltage: # passes, . fails, @ the nominal point (! when it fails).`, REPORT_COLUMNS));
+  append(out, wrap(`Worst-case check at every point, heaters at ${Math.round(r.heater * 100)} % of their voltage: # passes, . fails, @ the nominal point (! when it fails).`, REPORT_COLUMNS));
   out.push('');
   const cell = (i: number, j: number) => {
     const p = r.grid[j]![i]!;
@@ -74,7 +74,7 @@ export function renderSweep(design: Design, r: RailSweepResult, source: string):
     const edge = (v: number, last: number) => (v === last ? ' (the end of the sweep)' : '');
     const outside = axis.nominal < axis.values[0]! || axis.nominal > axis.values[axis.values.length - 1]!;
     const where = outside ? `; the nominal ${volts(axis.nominal)} lies outside the sweep` : w.position === undefined ? '' : `; nominal ${volts(axis.nominal)} at ${Math.round(w.position * 100)} % of it`;
-    out.push(...wrap(`${w.rail}: ${volts(w.low)}${edge(w.low, axis.values[0]!)} to ${volts(w.high)}${edge(w.high, axis.values[axis.values.length - 1]!)}${where}`, REPORT_COLUMNS - 2, '  ').map((l) => '  ' + l));
+    append(out, wrap(`${w.rail}: ${volts(w.low)}${edge(w.low, axis.values[0]!)} to ${volts(w.high)}${edge(w.high, axis.values[axis.values.length - 1]!)}${where}`, REPORT_COLUMNS - 2, '  ').map((l) => '  ' + l));
   }
   const cautions = safetyCautions(design);
   if (cautions.length > 0) out.push('', ...cautions.flatMap((c) => wrap(c, REPORT_COLUMNS)));

@@ -7,7 +7,7 @@ import { compileCircuit, type Circuit, type CompileOptions } from './circuit.js'
 import { DcSystem, type NewtonSettings } from './dcSystem.js';
 import type { LinearSystemFactory } from './linearSystem.js';
 import { nodesOutsideSpan, voltageSpan } from './voltageSpan.js';
-import { highest, lowest } from '../extremes.js';
+import { append, highest, lowest } from '../lists.js';
 
 /** The logic state asked of a net: 1 high, 0 low. */
 export interface StateHint {
@@ -241,7 +241,7 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
   if (!converged || residualAmps > RESIDUAL_LIMIT) {
     const worst = system.worstNodes(5).filter((i) => Math.abs(system.f[i]!) > RESIDUAL_LIMIT).map((i) => c.nodeNames[i]!);
     diagnostics.push(
-      error('no-convergence', `the operating point did not converge: KCL residual ${residualAmps.toExponential(2)} A (limit 1 nA)`, undefined, [
+      error('no-convergence', `the operating point did not converge: KCL residual ${Number.isFinite(residualAmps) ? `${residualAmps.toExponential(2)} A` : 'not measurable (the device laws gave no finite current)'} (limit 1 nA)`, undefined, [
         `nets that would not settle: ${worst.join(', ') || 'none above the limit; Newton stopped early'}`,
       ]),
     );
@@ -286,7 +286,7 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
     }
   }
   const tubes = tubeReport(c, x);
-  diagnostics.push(...trustedRangeWarnings(design, tubes));
+  append(diagnostics, trustedRangeWarnings(design, tubes));
   return { converged, method, iterations, nodes, tubes, resistors: resistorReport(c, x), residualAmps, hints: outcomes, diagnostics, x, system };
 }
 

@@ -9,7 +9,7 @@ import { nodesOutsideSpan, transientSpan } from './voltageSpan.js';
 import { DcSystem, type NewtonSettings } from './dcSystem.js';
 import type { LinearSystemFactory } from './linearSystem.js';
 import { solveOperatingPoint, type StateHint } from './operatingPoint.js';
-import { highest, lowest } from '../extremes.js';
+import { highest, lowest } from '../lists.js';
 
 export interface TransientOptions {
   /** How long to simulate (seconds). */

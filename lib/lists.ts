@@ -1,7 +1,7 @@
 /**
  * The smallest and largest of a list of numbers, by a loop. `Math.min(...xs)` passes every
  * element as an argument and overflows the call stack beyond about 10⁵ of them (a long
- * run in time, a large readings file), so nothing in lib spreads a list into it.
+ * run in time, a large readings file), so nothing in lib spreads a list into a call.
  *
  * Like `Math.min()` and `Math.max()`, the empty list gives Infinity and −Infinity, and a
  * NaN anywhere gives NaN. Example: `lowest([3, 1, 2])` is 1, `highest(new Float64Array(0))` is −Infinity.
@@ -24,4 +24,14 @@ export function highest(xs: ArrayLike<number>): number {
     if (x > m) m = x;
   }
   return m;
+}
+
+/**
+ * Appends `items` to `out` in place, by a loop: `out.push(...items)` passes every item as an
+ * argument and overflows the stack for a table of 10⁵ rows (the resistors of a large
+ * design). Returns `out`. Example: `append([1], [2, 3])` is `[1, 2, 3]`.
+ */
+export function append<T>(out: T[], items: readonly T[]): T[] {
+  for (let i = 0; i < items.length; i++) out.push(items[i]!);
+  return out;
 }
