@@ -3,7 +3,7 @@ import { buildStageGraph, compareNames, type StageGraph } from '../graph/stageGr
 import { joinNets } from '../solve/circuit.js';
 import { logicThreshold, solveOperatingPoint } from '../solve/operatingPoint.js';
 import { ratingsOf, type Ratings } from './ratings.js';
-import type { Diagnostic } from '../source/diagnostic.js';
+import { error, type Diagnostic } from '../source/diagnostic.js';
 import { AGEING_SCENARIOS, type AgeingScenario } from './ageing.js';
 import { fanoutHeadroom, MAX_EXTRA_LOADS, standardLoad, type StandardLoad } from './fanoutHeadroom.js';
 import { cutoffMargin, driveMargin, type GridMargin } from './gridMargins.js';
@@ -132,6 +132,10 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   const scenario = options.scenario ?? AGEING_SCENARIOS[0]!;
   const required = options.requiredMargin ?? design.settings.requiredMargin;
   const graph = options.graph ?? buildStageGraph(design);
+  // No logic net, no verdict: a PASS over nothing would read as a design that works.
+  if (graph.nets.length === 0) {
+    return { diagnostics: [error('nothing-to-check', 'the design has no logic nets: no tube section drives a net, and no grid reads one, so there is nothing to check', undefined, ["'solve' still gives its operating point"])] };
+  }
   const chain = new LevelChain(design, graph, scenario);
   chain.run();
 

@@ -1,4 +1,5 @@
 import type { Design } from '../design/model.js';
+import { buildStageGraph } from '../graph/stageGraph.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import { AGEING_SCENARIOS, heaterEmission, type AgeingScenario } from './ageing.js';
 import { checkMargins } from './check.js';
@@ -74,6 +75,12 @@ export function sweepRails(design: Design, options: RailSweepOptions): RailSweep
   const points = valuesOf.reduce((n, v) => n * v.length, 1);
   if (problems.length === 0 && points > MAX_SWEEP_POINTS) problems.push(`${points} points: a sweep takes at most ${MAX_SWEEP_POINTS}`);
   if (problems.length > 0) return { diagnostics: problems.map((message) => error('sweep-range', message, undefined)) };
+  // What makes the design itself unfit for a check (nothing to check) is the design's error, not a failing point.
+  const graph = buildStageGraph(design);
+  if (graph.nets.length === 0) {
+    const refused = checkMargins(design, { graph, headroom: false });
+    if (!('verdict' in refused)) return refused;
+  }
 
   const heater = options.heater ?? 1;
   const base = options.scenario ?? AGEING_SCENARIOS[0]!;
@@ -85,7 +92,7 @@ export function sweepRails(design: Design, options: RailSweepOptions): RailSweep
       const volts = new Map([[options.axes[0]!.rail, v1]]);
       if (second) volts.set(options.axes[1]!.rail, v2);
       const moved: Design = { ...design, rails: design.rails.map((r) => (volts.has(r.name) ? { ...r, volts: volts.get(r.name)! } : r)) };
-      const r = checkMargins(moved, { requiredMargin: options.requiredMargin, scenario, headroom: false });
+      const r = checkMargins(moved, { requiredMargin: options.requiredMargin, scenario, headroom: false, graph });
       if (!('verdict' in r)) return { pass: false, failures: 1, weakest: undefined };
       const failures = r.nets.filter((n) => n.status === 'fail').length + r.latches.filter((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined)).length;
       return { pass: r.verdict === 'pass', failures, weakest: r.nets[0]?.name };

@@ -48,6 +48,7 @@ export const DIAGNOSTIC_CODES = [
   'grid-no-dc-path',
   'node-no-dc-path',
   'empty-design',
+  'nothing-to-check',
   // solving
   'short-circuit',
   'no-convergence',

@@ -68,3 +68,16 @@ describe('values outside the physical domain of a model kind are refused, naming
     for (const text of ['', '# only a comment\n', 'rail bp = 24 V\n']) expect(codes(errorsOf(text))).toEqual(['empty-design']);
   });
 });
+
+describe('a design with parts but nothing to check', () => {
+  it('is refused by check, report and sweep with nothing-to-check (exit 2), and still solved by solve', async () => {
+    const { runCommand } = await import('../cliRun.js');
+    const files = { 'r.tube': 'rail bp = 24 V\nresistor R (bp, gnd) 1 k\n' };
+    for (const args of [['check', 'r.tube'], ['report', 'r.tube', '-o', 'x.html'], ['sweep', 'r.tube', '--rail', 'bp=20:24:2']]) {
+      const r = await runCommand(args, files);
+      expect(r.code, args.join(' ')).toBe(2);
+      expect(r.err).toContain('[nothing-to-check]');
+    }
+    expect((await runCommand(['solve', 'r.tube'], files)).code).toBe(0);
+  });
+});
