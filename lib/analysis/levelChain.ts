@@ -7,6 +7,7 @@ import { LocalProblem, regionParameters, type LocalParameter } from './localProb
 import { buildRegion, indexDesign, type DesignIndex, type Region } from './region.js';
 import { searchVertex, type Band } from './vertex.js';
 import { highest, lowest } from '../lists.js';
+import { coarsestPartition } from './partition.js';
 
 /** How a net's level is set: by inverting stages (plates: NOR), by followers (cathodes: OR), or from outside. */
 export type NetPolarity = 'inverting' | 'follower' | 'mixed' | 'input';
@@ -250,32 +251,18 @@ export class LevelChain {
    * Nets that are the same problem all the way out share one level record: the coarsest
    * partition in which nets of a class have regions of the same kind and, boundary by
    * boundary, boundaries in the same classes (partition refinement, as in the
-   * minimisation of automata). Their levels are equal at every step of the iteration, so
+   * minimisation of automata, by Hopcroft's algorithm: `coarsestPartition`). Their levels are equal at every step of the iteration, so
    * the chain solves one net per class: a register of a thousand identical cells costs
    * what one cell does. Returns the representatives in sweep order.
    */
   private shareLevels(): string[] {
-    let classOf = new Map<string, number>();
-    const ids = new Map<string, number>();
-    for (const name of this.order) {
-      const net = this.nets.get(name)!;
-      const sig = `${net.kind}|${net.polarity}`;
-      if (!ids.has(sig)) ids.set(sig, ids.size);
-      classOf.set(name, ids.get(sig)!);
-    }
-    for (let count = ids.size; ; ) {
-      const refined = new Map<string, number>();
-      const next = new Map<string, number>();
-      for (const name of this.order) {
-        let sig = `${classOf.get(name)}|`;
-        for (const b of this.nets.get(name)!.region.boundaries) sig += `${classOf.get(b)},`;
-        if (!refined.has(sig)) refined.set(sig, refined.size);
-        next.set(name, refined.get(sig)!);
-      }
-      classOf = next;
-      if (refined.size === count) break;
-      count = refined.size;
-    }
+    const index = new Map(this.order.map((name, i) => [name, i]));
+    const nets = this.order.map((name) => this.nets.get(name)!);
+    const found = coarsestPartition(
+      nets.map((net) => `${net.kind}|${net.polarity}`),
+      nets.map((net) => net.region.boundaries.map((b) => index.get(b) ?? -1)),
+    );
+    const classOf = new Map(this.order.map((name, i) => [name, found[i]!]));
     this.classes = classOf;
     const representatives: string[] = [];
     const byClass = new Map<number, string>();

@@ -387,7 +387,8 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
   }
   // The three weakest, one per class: nets alike are named with the first.
   const judged = r.nets.filter((n) => n.status !== 'unchecked');
-  const explained = judged.filter((n, i) => judged.findIndex((m) => m.classId === n.classId) === i).slice(0, 3);
+  const firstOfClass = new Set<number>();
+  const explained = judged.filter((n) => !firstOfClass.has(n.classId) && firstOfClass.add(n.classId)).slice(0, 3);
   if (explained.length > 0) {
     out.push('');
     out.push('The weakest nets, and why');

@@ -73,7 +73,9 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
       .join('')}</tbody></table></section>`;
 
   // The three weakest kinds of net, each named with the nets alike.
-  const explained = check.nets.filter((n, i, all) => n.weakest && n.weakest.causes.length > 0 && all.findIndex((m) => m.classId === n.classId) === i).slice(0, 3);
+  const seenClass = new Set<number>();
+  // The first net of each class (a Set, not a search per net: a design may have 10,000 classes).
+  const explained = check.nets.filter((n) => !seenClass.has(n.classId) && seenClass.add(n.classId) && n.weakest && n.weakest.causes.length > 0).slice(0, 3);
   if (explained.length > 0) {
     parts.push(
       `<section id="why"><h2>What makes the weakest nets weak</h2>${explained
