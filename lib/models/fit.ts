@@ -57,6 +57,13 @@ const STARTS: Record<ModelKind, Record<string, number>[]> = {
 const CURRENT_FLOOR = 0.01;
 
 /**
+ * Most readings a fit takes. Its cost is readings × parameters × iterations (about 1.5 s per
+ * thousand readings on this project's machines); past this a file is not bench readings
+ * but a generated table, and the fit would run for minutes.
+ */
+export const MAX_READINGS = 5000;
+
+/**
  * Fits a tube model to bench readings of one or more tubes of one type: the kind's
  * parameters shared by all tubes, and one perveance factor per tube (their geometric mean
  * fixed at 1), by Levenberg–Marquardt on the logarithms of the parameters (so they stay
@@ -64,7 +71,7 @@ const CURRENT_FLOOR = 0.01;
  * best. Pentode screen readings, where given, fit the screen constant kg2; without them
  * kg2 is left at the ratio of the start.
  *
- * Refuses, rather than fit wildly: fewer than two readings per parameter, fewer than
+ * Refuses, rather than fit wildly: more than MAX_READINGS readings, fewer than two readings per parameter, fewer than
  * three distinct grid or plate voltages, no current, or a best fit still more than 20 %
  * off (the kind cannot describe these readings).
  *
@@ -79,6 +86,7 @@ export function fitReadings(readings: readonly Reading[], kind: ModelKind): FitA
   const withScreen = kind === 'koren-pentode' && usable.some((r) => r.screenAmps !== undefined);
   const unknowns = names.length - (kind === 'koren-pentode' && !withScreen ? 1 : 0) + tubes.length - 1;
   const distinct = (xs: number[]) => new Set(xs.map((x) => x.toFixed(6))).size;
+  if (usable.length > MAX_READINGS) return { refusal: `${usable.length} readings: a fit takes at most ${MAX_READINGS} (readings taken at the bench number in the hundreds; thin the file to the points that matter)` };
   if (usable.length < 2 * unknowns) return { refusal: `${usable.length} readings for ${unknowns} unknowns (the ${names.length} parameters of ${kind} and a factor per tube): take at least ${2 * unknowns}` };
   if (distinct(usable.map((r) => r.gridVolts)) < 3) return { refusal: 'the readings use fewer than three grid voltages: the amplification factor cannot be told from the perveance' };
   if (distinct(usable.map((r) => r.plateVolts)) < 3) return { refusal: 'the readings use fewer than three plate voltages: the plate characteristic cannot be fitted' };
