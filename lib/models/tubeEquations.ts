@@ -15,7 +15,9 @@ import type { TubeModel } from '../design/model.js';
  *   electrons the plate no longer takes go to the screen instead (the usual picture of
  *   current division, e.g. K. R. Spangenberg, "Vacuum Tubes", 1948, from memory). We add
  *   that shortfall, (2·E1^ex/kg1)·(π/2 − atan(Vak/kvb)), to the screen, so the cathode
- *   current does not fall as the plate bottoms.
+ *   current does not fall as the plate bottoms. Koren's screen term is multiplied by
+ *   tanh(Vg2k / 1 V), so that no screen current flows with the screen at or below the
+ *   cathode (the bare term flows whenever the grid is positive, wherever the screen is).
  * - child-langmuir: Ia = K·(Vgk + Vak/mu)^1.5 for a positive argument (the 3/2-power
  *   law), multiplied by tanh(Vak / 1 V) so that the plate current falls continuously to
  *   zero as Vak → 0 instead of flowing at zero or negative plate voltage.
@@ -189,15 +191,21 @@ export function evaluateTube(p: Float64Array, po: number, vgk: number, vak: numb
         isVa = -a * tVa;
       }
     }
+    // Koren's screen law, gated by tanh(Vg2k / 1 V) like the Child–Langmuir plate: a screen
+    // at or below the cathode collects nothing, whatever the grid does (the bare law lets a
+    // positive grid drive current into a screen 800 V below the cathode, a source of power).
     const x = vg + vsk / mu;
-    if (x > 0) {
+    if (x > 0 && vsk > 0) {
       const ex = p[po + P.ex]!;
       const kg2 = p[po + P.kg2]!;
       const pw = Math.pow(x, ex - 1);
-      is += (perveance * pw * x) / kg2;
+      const law = (perveance * pw * x) / kg2;
       const d = (perveance * ex * pw) / kg2;
-      isVg += d;
-      isVs += d / mu;
+      const th = Math.tanh(vsk / CHILD_LANGMUIR_KNEE);
+      const dTh = (1 - th * th) / CHILD_LANGMUIR_KNEE;
+      is += law * th;
+      isVg += d * th;
+      isVs += (d / mu) * th + law * dTh;
     }
   } else {
     const x = vg + vak / mu;

@@ -40,3 +40,16 @@ describe('every DC solution lies within the span of the fixed voltages', () => {
     expect(diag?.notes.join(' ')).toMatch(/q\.g1 at -1\d\.\d\d V/);
   });
 });
+
+describe('a screen at or below the cathode collects nothing', () => {
+  it('leaves a pentode screen returned to ground at 0 V with its grid on the plate rail, instead of 810 V below it', () => {
+    // Electrons reach an electrode only if it is positive to the cathode (Child and
+    // Langmuir's space-charge law needs a positive accelerating voltage).
+    const d = design('rail bp = 24 V\nsection V "6AU6" (bp, bp, gnd, s)\nresistor RS (s, gnd) 1 M\n');
+    const op = solveOperatingPoint(d);
+    if (!('nodes' in op)) throw new Error('no circuit');
+    expect(op.converged).toBe(true);
+    expect(Math.abs(op.nodes.get('s')!)).toBeLessThan(0.01);
+    expect(op.tubes[0]!.screenAmps).toBeLessThanOrEqual(1e-9);
+  });
+});
