@@ -132,8 +132,9 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   const scenario = options.scenario ?? AGEING_SCENARIOS[0]!;
   const required = options.requiredMargin ?? design.settings.requiredMargin;
   const graph = options.graph ?? buildStageGraph(design);
-  // No logic net, no verdict: a PASS over nothing would read as a design that works.
-  if (graph.nets.length === 0) {
+  // No logic net and no ratings asked for, no verdict: a PASS over nothing would read as a
+  // design that works. With ratings, the parts' ratings are still something to judge.
+  if (graph.nets.length === 0 && !options.ratings) {
     return { diagnostics: [error('nothing-to-check', 'the design has no logic nets: no tube section drives a net, and no grid reads one, so there is nothing to check', undefined, ["'solve' still gives its operating point"])] };
   }
   const chain = new LevelChain(design, graph, scenario);

@@ -338,7 +338,9 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
   const failWords = [`${failing.length} of ${r.nets.length} nets`, ...(r.latches.length > 0 ? [`${badLatches.length} of ${r.latches.length} latches`] : [])].join(' and ');
   const overRating = r.ratings?.ok === false ? ' Parts run over their ratings (below).' : '';
   const verdict =
-    r.verdict === 'pass'
+    r.nets.length === 0 && r.latches.length === 0
+      ? `${r.verdict === 'pass' ? 'PASS' : 'FAIL'}: no logic net to judge (no section drives a net); ${r.verdict === 'pass' ? 'every part keeps within its rating.' : 'parts run over their ratings (below).'}`
+      : r.verdict === 'pass'
       ? `PASS: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}).`
       : failing.length + badLatches.length === 0 && r.settled && r.ratings?.ok === false
         ? `FAIL: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}), but parts run over their ratings (below).`

@@ -52,7 +52,9 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
 
   const failing = check.nets.filter((n) => n.status === 'fail').length;
   const verdict =
-    check.verdict === 'pass'
+    check.nets.length === 0
+      ? `${check.verdict === 'pass' ? 'PASS' : 'FAIL'}: no logic net to judge; ${check.verdict === 'pass' ? 'every part keeps within its rating.' : 'parts run over their ratings.'}`
+      : check.verdict === 'pass'
       ? `PASS: every net keeps ${v(check.requiredMargin)} V of margin${check.latches.length ? ' and every latch holds and switches' : ''} in worst case.`
       : failing === 0 && check.ratings?.ok === false
         ? `FAIL: every net keeps ${v(check.requiredMargin)} V of margin in worst case, but parts run over their ratings.`

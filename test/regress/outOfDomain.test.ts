@@ -70,14 +70,21 @@ describe('values outside the physical domain of a model kind are refused, naming
 });
 
 describe('a design with parts but nothing to check', () => {
-  it('is refused by check, report and sweep with nothing-to-check (exit 2), and still solved by solve', async () => {
+  it('is refused by sweep (nothing-to-check, exit 2); check judges only the ratings and says so, never "every net keeps"', async () => {
     const { runCommand } = await import('../cliRun.js');
-    const files = { 'r.tube': 'rail bp = 24 V\nresistor R (bp, gnd) 1 k\n' };
-    for (const args of [['check', 'r.tube'], ['report', 'r.tube', '-o', 'x.html'], ['sweep', 'r.tube', '--rail', 'bp=20:24:2']]) {
-      const r = await runCommand(args, files);
-      expect(r.code, args.join(' ')).toBe(2);
-      expect(r.err).toContain('[nothing-to-check]');
-    }
-    expect((await runCommand(['solve', 'r.tube'], files)).code).toBe(0);
+    // 24 V across 1 kΩ is 576 mW (Joule's law), over half of a 0.5 W rating; 100 kΩ takes 5.76 mW.
+    const hot = { 'r.tube': 'rail bp = 24 V\nresistor R (bp, gnd) 1 k\n' };
+    const cool = { 'r.tube': 'rail bp = 24 V\nresistor R (bp, gnd) 100 k\n' };
+    const swept = await runCommand(['sweep', 'r.tube', '--rail', 'bp=20:24:2'], hot);
+    expect(swept.code).toBe(2);
+    expect(swept.err).toContain('[nothing-to-check]');
+    const failing = await runCommand(['check', 'r.tube'], hot);
+    expect(failing.code).toBe(1);
+    expect(failing.out.replace(/\s+/g, ' ')).toContain('FAIL: no logic net to judge (no section drives a net); parts run over their ratings');
+    const passing = await runCommand(['check', 'r.tube'], cool);
+    expect(passing.code).toBe(0);
+    expect(passing.out).toContain('PASS: no logic net to judge');
+    expect(passing.out).not.toContain('every net keeps');
+    expect((await runCommand(['solve', 'r.tube'], hot)).code).toBe(0);
   });
 });
