@@ -85,7 +85,10 @@ export async function checkWithSamples(loaded: { design: Design; sources: Map<st
     return EXIT.badInput;
   }
   const setup = { seed, distribution, scenario: scenario.name, requiredMargin: result.requiredMargin, thresholds: samplingThresholds(result) };
-  const sampled = samples > 0 ? await runSamples(loaded.design, setup, samples, workers, io) : undefined;
+  // Samples and shrinking judge logic nets; a design with none (check then judges its ratings only) has nothing for them.
+  const logic = result.nets.length > 0;
+  if (!logic && samples > 0) io.stderr('note: --samples skipped: the design has no logic net for a sample to judge\n');
+  const sampled = samples > 0 && logic ? await runSamples(loaded.design, setup, samples, workers, io) : undefined;
   return { result, sampled };
 }
 
@@ -97,7 +100,9 @@ export async function runCheck(file: string, options: CheckCliOptions, io: CliIo
   const checked = await checkWithSamples(loaded, settings, io);
   if (typeof checked === 'number') return checked;
   const { result, sampled } = checked;
-  const shrunk = options.shrink ? shrinkFailure(loaded.design, result, { seed: settings.seed, runs: SHRINK_RUNS }) : undefined;
+  const logic = result.nets.length > 0;
+  if (options.shrink && !logic) io.stderr('note: --shrink skipped: the design has no logic net whose failure could be shrunk\n');
+  const shrunk = options.shrink && logic ? shrinkFailure(loaded.design, result, { seed: settings.seed, runs: SHRINK_RUNS }) : undefined;
   if (options.json) io.stdout(JSON.stringify(checkToJson(loaded.design, result, sampled, shrunk), null, 2) + '\n');
   else {
     const text = renderCheck(loaded.design, result, file, sampled, shrunk);

@@ -144,19 +144,22 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
     const code = writeCsv(options.csv, r, recorded, io);
     if (code !== EXIT.ok) return code;
   }
+  // The waveforms' extremes, for the safety cautions: piecewise linear, so they lie at their corners.
+  const applied = [...inputs].flatMap(([name, w]) => [0, stop.value, ...w.corners(stop.value)].map((t) => ({ name, volts: w.at(t) })));
   if (options.output !== undefined) {
-    const html = await renderPulseReport({ design, source: file, run: r, inputs: new Map([...inputs].map(([k, w]) => [k, w.text])), limit, plotted: recorded });
+    const html = await renderPulseReport({ design, source: file, run: r, inputs: new Map([...inputs].map(([k, w]) => [k, w.text])), limit, plotted: recorded, applied });
     const failed = writeReport(options.output, html, io);
     if (failed !== undefined) return failed;
     io.stderr(`wrote ${options.output}\n`);
   }
   const ok = r.run.ok && misses.length === 0 && (!limit || limit.passing !== undefined);
+  const cautions = safetyCautions(design, applied);
   if (options.json) {
-    io.stdout(JSON.stringify({ ...pulseJson(r, inputs, stop.value, misses, limit, recorded), cautions: safetyCautions(design) }, null, 1) + '\n');
+    io.stdout(JSON.stringify({ ...pulseJson(r, inputs, stop.value, misses, limit, recorded), cautions }, null, 1) + '\n');
     return ok ? EXIT.ok : EXIT.failed;
   }
   io.stdout(pulseText(file, design.title, r, inputs, stop.value, misses, limit).join('\n') + '\n');
-  for (const c of safetyCautions(design)) io.stdout(wrap(c, 80, '').join('\n') + '\n');
+  for (const c of cautions) io.stdout(wrap(c, 80, '').join('\n') + '\n');
   return ok ? EXIT.ok : EXIT.failed;
 }
 

@@ -3,6 +3,7 @@ import { table, wrap } from '../lib/report/format.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 import { append } from '../lib/lists.js';
+import { safetyCautions } from '../lib/report/safety.js';
 
 export const STEP_SUMMARY = 'step the design through a sequence of inputs: the state after each step';
 
@@ -66,8 +67,10 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
     report(r.diagnostics, sources, io);
     return EXIT.badInput;
   }
+  // The levels the sequence sets count for the safety cautions as the design's own do.
+  const cautions = safetyCautions(loaded.design, actions.flatMap((a) => (a.kind === 'set' ? [{ name: a.part, volts: a.volts }] : [])));
   if (options.json) {
-    io.stdout(JSON.stringify({ schema: 'tubemargin.step/1', nets: r.nets, ok: r.ok, steps: r.rows }, null, 2) + '\n');
+    io.stdout(JSON.stringify({ schema: 'tubemargin.step/1', nets: r.nets, ok: r.ok, steps: r.rows, cautions }, null, 2) + '\n');
     return r.ok ? EXIT.ok : EXIT.failed;
   }
   const out = [`${loaded.design.title || '(untitled design)'} — ${file}`, 'Watched nets, in the order of the state column:'];
@@ -87,6 +90,7 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
   out.push('  (state: 1 high, 0 low, a digit a watched net; margin: the smallest worst-case');
   out.push('  noise margin of the watched nets in their present states, volts, and whose)');
   for (const [i, row] of r.rows.entries()) if (row.why !== undefined) append(out, wrap(`Step ${i} has no solution: ${row.why}.`, 80));
+  if (cautions.length > 0) out.push('', ...cautions.flatMap((c) => wrap(c, 80)));
   io.stdout(out.join('\n') + '\n');
   return r.ok ? EXIT.ok : EXIT.failed;
 }

@@ -22,7 +22,7 @@ export interface SectionRating {
 
 export interface ResistorRating {
   resistor: string;
-  /** Power at the nominal operating point, and the most at the corners of largest plate dissipation (watts). */
+  /** Power at the nominal operating point, and the most at the corners of largest plate dissipation (watts); NaN when neither was solved. */
   watts: number;
   rating: number;
   /** Power as a share of the rating; above the derating (50 %) is over. */
@@ -139,7 +139,8 @@ export function ratingsOf(design: Design, chain: LevelChain, op: OperatingPoint 
   }
   const resistors: ResistorRating[] = design.parts.flatMap((p) => {
     if (p.type !== 'resistor') return [];
-    const watts = resistorWatts.get(p.name) ?? 0;
+    // Unmeasured (no nominal operating point, and in no region's corner) is not 0 W: it cannot pass.
+    const watts = resistorWatts.get(p.name) ?? NaN;
     return [{ resistor: p.name, watts, rating: p.watts, share: watts / p.watts, ok: watts <= DERATING * p.watts }];
   });
   const rails = design.rails.map((r) => {
@@ -169,7 +170,7 @@ export function ratingsOf(design: Design, chain: LevelChain, op: OperatingPoint 
     return { section: s, volts, rating, ok: rating === undefined || !(Math.abs(volts) > rating) };
   });
   const all = [...sections.values()].sort((a, b) => b.plateWatts - a.plateWatts);
-  return { sections: all, resistors: resistors.sort((a, b) => b.share - a.share), rails, heaters, followers, ok: all.every((s) => s.ok) && resistors.every((r) => r.ok) && followers.every((f) => f.ok) };
+  return { sections: all, resistors: resistors.sort((a, b) => (Number.isNaN(a.share) || Number.isNaN(b.share) ? Number(Number.isNaN(b.share)) - Number(Number.isNaN(a.share)) : b.share - a.share)), rails, heaters, followers, ok: all.every((s) => s.ok) && resistors.every((r) => r.ok) && followers.every((f) => f.ok) };
 }
 
 /** The current a rail gives out at an operating point: through the resistors and into the plates, screens and cathodes of sections on it. */

@@ -6,7 +6,7 @@ import type { ShrinkResult } from '../analysis/shrink.js';
 import { DERATING, type Ratings } from '../analysis/ratings.js';
 import type { Design } from '../design/model.js';
 import { cutList, formatSI, table, wrap } from './format.js';
-import { figure, named, WHY_SUFFIX } from './figure.js';
+import { figure, named, WHY_SUFFIX, type Figure } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
 import { append, lowest } from '../lists.js';
@@ -68,7 +68,7 @@ export interface ReportJson {
   ratings?: {
     ok: boolean;
     sections: ({ section: string; model: string; plateWatts: number; screenWatts: number; ok: boolean } & Record<'plateRating' | 'screenRating', number | null> & Partial<Record<'plateRatingWhy' | 'screenRatingWhy', string>>)[];
-    resistors: { resistor: string; watts: number; rating: number; share: number; ok: boolean }[];
+    resistors: ({ resistor: string; rating: number; ok: boolean } & Figure<'watts'> & Figure<'share'>)[];
     rails: ({ rail: string; volts: number } & Record<'amps' | 'watts', number | null> & Partial<Record<'ampsWhy' | 'wattsWhy', string>>)[];
     heaters: { model: string; designation: string; envelopes: number; volts: number; amps: number; strings: { rail: string; perString: number; strings: number; droppingOhms: number; droppingWatts: number }[] }[];
     followers: ({ section: string; ok: boolean } & Record<'volts' | 'rating', number | null> & Partial<Record<'voltsWhy' | 'ratingWhy', string>>)[];
@@ -195,7 +195,7 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
         ...figure('plateRating', x.plateRating, 'a type of the design\'s own: the library holds no rating for it'),
         ...figure('screenRating', x.screenRating, x.plateRating === undefined ? 'a type of the design\'s own: the library holds no rating for it' : 'a triode: no screen'),
       })),
-      resistors: g.resistors,
+      resistors: g.resistors.map((x) => ({ resistor: x.resistor, ...figure('watts', x.watts, noOp.replace('rail current', 'power')), rating: x.rating, ...figure('share', x.share, noOp.replace('rail current', 'power')), ok: x.ok })),
       rails: g.rails.map((x) => ({ rail: x.rail, volts: x.volts, ...figure('amps', x.amps, noOp), ...figure('watts', x.watts, noOp) })),
       heaters: g.heaters,
       followers: g.followers.map((x) => ({ section: x.section, ok: x.ok, ...figure('volts', x.volts, 'no solution at its worst corner'), ...figure('rating', x.rating, 'a type of the design\'s own: the library holds no heater–cathode rating for it') })),
@@ -273,10 +273,16 @@ function renderRatings(g: Ratings): string[] {
   const overSections = g.sections.filter((s) => !s.ok);
   const overResistors = g.resistors.filter((r) => !r.ok);
   for (const s of overSections) append(out, indented(`${s.section} dissipates up to ${formatSI(s.plateWatts, 'W')} on its plate and ${formatSI(s.screenWatts, 'W')} on its screen, over its rating (${formatSI(s.plateRating ?? NaN, 'W')}${s.screenRating === undefined ? '' : `, ${formatSI(s.screenRating, 'W')}`})`, '  ', '    '));
-  for (const r of overResistors.slice(0, 8)) append(out, indented(`${r.resistor} takes up to ${formatSI(r.watts, 'W')}, ${Math.round(r.share * 100)} % of its ${formatSI(r.rating, 'W')} rating (keep it under ${Math.round(DERATING * 100)} %)`, '  ', '    '));
+  for (const r of overResistors.slice(0, 8)) {
+    const said = Number.isFinite(r.watts)
+      ? `${r.resistor} takes up to ${formatSI(r.watts, 'W')}, ${Math.round(r.share * 100)} % of its ${formatSI(r.rating, 'W')} rating (keep it under ${Math.round(DERATING * 100)} %)`
+      : `${r.resistor}: its power was not measured (the nominal operating point did not converge), so nothing vouches for its ${formatSI(r.rating, 'W')} rating`;
+    append(out, indented(said, '  ', '    '));
+  }
   if (overResistors.length > 8) out.push(`  and ${overResistors.length - 8} more resistors over ${Math.round(DERATING * 100)} % of their rating`);
   const hot = g.sections[0];
-  if (hot) append(out, indented(`Most plate dissipation, worst case: ${hot.section}, ${formatSI(hot.plateWatts, 'W')}${hot.plateRating === undefined ? '' : ` of ${formatSI(hot.plateRating, 'W')}`}; most loaded resistor: ${g.resistors[0] ? `${g.resistors[0].resistor}, ${Math.round(g.resistors[0].share * 100)} % of its rating` : 'none'}.`, '  ', '    '));
+  const mostLoaded = g.resistors.find((r) => Number.isFinite(r.share));
+  if (hot) append(out, indented(`Most plate dissipation, worst case: ${hot.section}, ${formatSI(hot.plateWatts, 'W')}${hot.plateRating === undefined ? '' : ` of ${formatSI(hot.plateRating, 'W')}`}; most loaded resistor: ${mostLoaded ? `${mostLoaded.resistor}, ${Math.round(mostLoaded.share * 100)} % of its rating` : 'none measured'}.`, '  ', '    '));
   if (g.rails.some((r) => !Number.isFinite(r.amps))) append(out, indented('Rail currents: not measured, because the nominal operating point did not converge (run solve to see where).', '  ', '    '));
   else if (g.rails.length > 0) append(out, indented(`Rails at the nominal operating point: ${g.rails.map((r) => `${r.rail} ${formatSI(r.amps, 'A')} (${formatSI(Math.abs(r.watts), 'W')})`).join(', ')}.`, '  ', '    '));
   for (const h of g.heaters) {

@@ -9,7 +9,7 @@ import type { OperatingPoint } from '../solve/operatingPoint.js';
 import { butterflyChart, histogramChart, marginChart, PALETTE, svgOf, sweepChart, transferChart, waveformChart } from './charts.js';
 import { DEFINITIONS } from './checkReport.js';
 import { formatSI } from './format.js';
-import { safetyCautions } from './safety.js';
+import { safetyCautions, type AppliedLevel } from './safety.js';
 
 /** The first line of every report: `report` overwrites a file only when it starts so (its own earlier output). */
 export const REPORT_MARK = '<!doctype html><!-- tubemargin report -->';
@@ -154,6 +154,8 @@ export interface PulseReportInput {
   limit?: ClockLimitResult;
   /** The nets to plot (up to eight a plot); the watched nets where absent. */
   plotted?: string[];
+  /** The levels the waveforms reach, for the safety cautions. */
+  applied?: readonly AppliedLevel[];
 }
 
 /**
@@ -170,7 +172,7 @@ export async function renderPulseReport(input: PulseReportInput): Promise<string
   const parts: string[] = [];
   const inputs = [...input.inputs].map(([k, w]) => `<li><code>${e(k)} = ${e(w)}</code></li>`).join('');
   parts.push(`<header><h1>${e(title)}</h1><p class="source">${e(input.source)} · simulated ${e(si(r.run.times[r.run.times.length - 1], 's'))} in ${r.run.accepted} steps</p><ul>${inputs}</ul></header>`);
-  const cautions = safetyCautions(design);
+  const cautions = safetyCautions(design, input.applied);
   if (cautions.length > 0) parts.push(`<section id="caution" class="caution"><h2>Caution: high voltage</h2>${cautions.map((c) => `<p>${e(c)}</p>`).join('')}</section>`);
   const driven = design.parts.flatMap((p) => (p.type === 'drive' && input.inputs.has(p.name) ? [p.node] : []));
   const nets = [...new Set([...driven, ...(input.plotted ?? r.nets)])];

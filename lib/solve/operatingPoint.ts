@@ -237,7 +237,15 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
     converged = robust(base);
   } else converged = robust(base);
 
-  const residualAmps = system.trueResidual(x);
+  let residualAmps = system.trueResidual(x);
+  if (converged && residualAmps > RESIDUAL_LIMIT) {
+    // gmin's own current, 1e-12 S times a node's voltage, is a nanoamp at a kilovolt: a
+    // high-voltage design can converge with gmin and miss the limit without it. A few
+    // iterations without gmin, from the solution, polish it off.
+    const saved = Float64Array.from(x);
+    if (run({ ...base, gmin: 0, maxIterations: 20 })) residualAmps = system.trueResidual(x);
+    else x.set(saved);
+  }
   if (!converged || residualAmps > RESIDUAL_LIMIT) {
     const worst = system.worstNodes(5).filter((i) => Math.abs(system.f[i]!) > RESIDUAL_LIMIT).map((i) => c.nodeNames[i]!);
     diagnostics.push(

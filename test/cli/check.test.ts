@@ -90,7 +90,7 @@ describe('tubemargin check', () => {
 
   it('shows the safety cautions for a design whose rails exceed 60 V', async () => {
     const r = await run(['check', 'nets/crate-tally.tube']);
-    expect(r.out).toContain('CAUTION: hv (up to 158 V), neg (up to 78.8 V), LINE_A (up to 150 V), LINE_B (up');
+    expect(r.out).toContain('CAUTION: hv (up to 158 V), neg (down to −78.8 V), LINE_A (up to 150 V), LINE_B');
     expect(r.out).toContain('licensed person');
   });
 });
