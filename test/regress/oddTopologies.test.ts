@@ -46,3 +46,26 @@ button B (a, bias)
     }
   });
 });
+
+describe('kilovolt designs and designs without logic', () => {
+  it('solves a 2.4 kV divider to Ohm\'s law: gmin\'s own nanoamp at a kilovolt must not stop it', async () => {
+    const op = solveOperatingPoint(design('rail hv = 2400 V\nresistor R1 (hv, mid) 1 M rating 100 W\nresistor R2 (mid, gnd) 1 M rating 100 W\n'));
+    if (!('nodes' in op)) throw new Error('no circuit');
+    expect(op.converged).toBe(true);
+    expect(op.nodes.get('mid')!).toBeCloseTo(1200, 6);
+  });
+
+  it('fails, not passes, a 5 kV divider whose 1 W resistors take 6.25 W each (Joule\'s law)', async () => {
+    const r = await runCommand(['check', 'd.tube'], { 'd.tube': 'rail hv = 5000 V\nresistor R1 (hv, mid) 1 M rating 1 W\nresistor R2 (mid, gnd) 1 M rating 1 W\n' });
+    expect(r.code).toBe(1);
+    expect(r.out).toMatch(/R1 takes up to 6\.\d+ W/);
+  });
+
+  it('skips --shrink and --samples with a note where there is no logic net, instead of an internal error', async () => {
+    const r = await runCommand(['check', 'd.tube', '--shrink', '--samples', '20', '--workers', '1'], { 'd.tube': 'rail bp = 24 V\nresistor R1 (bp, gnd) 100 k\n' });
+    expect(r.code).toBe(0);
+    expect(r.err).toContain('--shrink skipped');
+    expect(r.err).toContain('--samples skipped');
+    expect(r.err).not.toContain('internal error');
+  });
+});
