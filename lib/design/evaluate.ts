@@ -6,6 +6,7 @@ import {
   VOLTS,
   WATTS,
   describeDimension,
+  formatSI,
   isDimensionless,
   multiplyDimensions,
   parseUnitSuffix,
@@ -175,8 +176,14 @@ export function checkSign(value: number, span: SourceSpan | undefined, expect: P
   }
   const r = expect.range;
   if (r && (value < r.min || value > r.max) && !(value === 0 && r.zeroAllowed)) {
-    const u = r.unit ? ` ${r.unit}` : '';
-    diagnostics.push(error('value-out-of-range', `${expect.what} of ${formatNumber(value)}${u} is outside ${formatNumber(r.min)}…${formatNumber(r.max)}${u}, the range it can physically take`, span));
+    // SI prefixes where they read well (100 MΩ), powers of ten beyond them (1e-18 A, 1e+12 Ω).
+    const show = (x: number) => {
+      const a = Math.abs(x);
+      if (!r.unit) return formatNumber(x);
+      if (x !== 0 && (a < 1e-12 || a >= 1e12)) return `${x.toExponential()} ${r.unit}`;
+      return r.unit === 'A/V^1.5' ? `${formatNumber(x)} ${r.unit}` : formatSI(x, r.unit);
+    };
+    diagnostics.push(error('value-out-of-range', `${expect.what} must lie within ${show(r.min)}…${show(r.max)}, not ${show(value)}`, span));
     return undefined;
   }
   return value;

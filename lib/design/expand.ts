@@ -543,11 +543,11 @@ class Expander {
           const key = f.name.text;
           const expect =
             key === 'is'
-              ? { what: 'the saturation current is', dim: AMPS, sign: 'positive' as const, range: DIODE_RANGES.is }
+              ? { what: "the diode's saturation current 'is'", dim: AMPS, sign: 'positive' as const, range: DIODE_RANGES.is }
               : key === 'n'
-                ? { what: 'the emission coefficient n', dim: DIMENSIONLESS, sign: 'positive' as const, range: DIODE_RANGES.n }
+                ? { what: "the diode's emission coefficient 'n'", dim: DIMENSIONLESS, sign: 'positive' as const, range: DIODE_RANGES.n }
                 : key === 'rs'
-                  ? { what: 'the series resistance rs', dim: OHMS, sign: 'non-negative' as const, range: DIODE_RANGES.rs }
+                  ? { what: "the diode's series resistance 'rs'", dim: OHMS, sign: 'non-negative' as const, range: DIODE_RANGES.rs }
                   : undefined;
           if (!expect) {
             d.push(error('unknown-field', `a diode has no parameter '${key}'`, f.name.span, [...didYouMean(key, ['is', 'n', 'rs']), 'parameters: is, n, rs']));

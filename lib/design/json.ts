@@ -263,9 +263,9 @@ class JsonReader {
         return { ...(rest as typeof p), volts, tol: t, sourceOhms, span };
       }
       case 'diode': {
-        const is = p.is === undefined ? DIODE_DEFAULTS.is : checkSign(p.is, spanOf(p, 'is'), { what: 'the saturation current is', sign: 'positive', range: DIODE_RANGES.is }, d);
-        const n = p.n === undefined ? DIODE_DEFAULTS.n : checkSign(p.n, spanOf(p, 'n'), { what: 'the emission coefficient n', sign: 'positive', range: DIODE_RANGES.n }, d);
-        const rs = p.rs === undefined ? DIODE_DEFAULTS.rs : checkSign(p.rs, spanOf(p, 'rs'), { what: 'the series resistance rs', sign: 'non-negative', range: DIODE_RANGES.rs }, d);
+        const is = p.is === undefined ? DIODE_DEFAULTS.is : checkSign(p.is, spanOf(p, 'is'), { what: "the diode's saturation current 'is'", sign: 'positive', range: DIODE_RANGES.is }, d);
+        const n = p.n === undefined ? DIODE_DEFAULTS.n : checkSign(p.n, spanOf(p, 'n'), { what: "the diode's emission coefficient 'n'", sign: 'positive', range: DIODE_RANGES.n }, d);
+        const rs = p.rs === undefined ? DIODE_DEFAULTS.rs : checkSign(p.rs, spanOf(p, 'rs'), { what: "the diode's series resistance 'rs'", sign: 'non-negative', range: DIODE_RANGES.rs }, d);
         if (is === undefined || n === undefined || rs === undefined) return undefined;
         return { ...(rest as typeof p), is, n, rs, span };
       }

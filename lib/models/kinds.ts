@@ -28,9 +28,9 @@ export const MODEL_KINDS: Record<ModelKind, { summary: string; parameters: Model
     parameters: [
       { name: 'mu', meaning: 'amplification factor', unit: 'none', range: { min: 0.5, max: 1000, unit: '' } },
       { name: 'ex', meaning: 'exponent of the plate-current law', unit: 'none', range: { min: 1, max: 3, unit: '' } },
-      { name: 'kg1', meaning: 'plate-current scale (larger is less current)', unit: 'none', range: { min: 1, max: 1e6, unit: '' } },
+      { name: 'kg1', meaning: 'plate-current scale; larger is less current', unit: 'none', range: { min: 1, max: 1e6, unit: '' } },
       { name: 'kp', meaning: 'sharpness of the cutoff knee', unit: 'none', range: { min: 1, max: 1e4, unit: '' } },
-      { name: 'kvb', meaning: 'knee voltage constant (V²)', unit: 'none', range: { min: 1e-3, max: 1e7, unit: '' } },
+      { name: 'kvb', meaning: 'knee voltage constant, V²', unit: 'none', range: { min: 1e-3, max: 1e7, unit: '' } },
     ],
   },
   'koren-pentode': {
@@ -41,14 +41,14 @@ export const MODEL_KINDS: Record<ModelKind, { summary: string; parameters: Model
       { name: 'kg1', meaning: 'plate-current scale', unit: 'none', range: { min: 1, max: 1e6, unit: '' } },
       { name: 'kg2', meaning: 'screen-current scale', unit: 'none', range: { min: 1, max: 1e7, unit: '' } },
       { name: 'kp', meaning: 'sharpness of the cutoff knee', unit: 'none', range: { min: 1, max: 1e4, unit: '' } },
-      { name: 'kvb', meaning: 'plate knee voltage (V)', unit: 'none', range: { min: 1e-3, max: 1e4, unit: 'V' } },
+      { name: 'kvb', meaning: 'plate knee voltage', unit: 'none', range: { min: 1e-3, max: 1e4, unit: 'V' } },
     ],
   },
   'child-langmuir': {
     summary: 'the 3/2-power law, K·(Vgk + Vak/mu)^1.5',
     parameters: [
       { name: 'mu', meaning: 'amplification factor', unit: 'none', range: { min: 0.5, max: 1000, unit: '' } },
-      { name: 'k', meaning: 'perveance (A/V^1.5)', unit: 'perveance', range: { min: 1e-7, max: 1, unit: 'A/V^1.5' } },
+      { name: 'k', meaning: 'perveance, A/V^1.5', unit: 'perveance', range: { min: 1e-7, max: 1, unit: 'A/V^1.5' } },
     ],
   },
 };
