@@ -78,14 +78,15 @@ export class LocalProblem {
     const local = localDesign(design, region).design;
     const variation = new Map<string, SectionVariation>();
     if (scenario.interfaceOhms > 0) for (const p of region.parts) if (p.type === 'tube') variation.set(p.name, { ...NOMINAL_VARIATION, cathodeOhms: NO_INTERFACE_OHMS });
-    // A contact closed in this case can tie a boundary net, held stiff here, to a rail (a plate
-    // joined through a closed switch to a net a button pulls to a rail): the whole design
-    // compiles, the local cut of it does not. Such a case has no local solution; the problem
-    // is built without the contacts so that its callers get "no solution", never a throw.
+    // A closed contact can tie a boundary net, held stiff here, to a rail or a drive (a plate
+    // joined through a switch to a net a button pulls to a rail, or to a stiff drive): the
+    // whole design compiles, the local cut of it does not. Such a case has no local
+    // solution; the problem is built with every contact open so that its callers get "no
+    // solution", never a throw.
     let compiled = compileCircuit(local, { close, variation });
-    if (!compiled.circuit && close.size > 0) {
+    if (!compiled.circuit) {
       this.shorted = true;
-      compiled = compileCircuit(local, { variation });
+      compiled = compileCircuit({ ...local, parts: local.parts.map((p) => (p.type === 'switch' ? { ...p, closed: false } : p)) }, { variation });
     }
     if (!compiled.circuit) throw new Error(`local problem of ${region.targets.join(', ')} does not compile: ${compiled.diagnostics.map((d) => d.message).join('; ')}`);
     const c = compiled.circuit;

@@ -91,7 +91,7 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
     const start = previous;
     // From the state before, nothing pinned, so every latch stays as it is where it can.
     let op: OperatingPoint | { diagnostics: Diagnostic[] } = solveOperatingPoint(d, start ? { graph, start } : { graph, hints: options.hints });
-    const undecided = (o: typeof op) => !('nodes' in o) || (o as OperatingPoint).residualAmps > RESIDUAL_LIMIT || o.diagnostics.some((x) => x.code === 'state-undecided');
+    const undecided = (o: typeof op) => !('nodes' in o) || (o as OperatingPoint).residualAmps > RESIDUAL_LIMIT || (o as OperatingPoint).outsideSpan.length > 0 || o.diagnostics.some((x) => x.code === 'state-undecided');
     // A large change can carry Newton onto a latch's metastable point, which is no state:
     // then every latch is started where it was, pinned and released.
     if (undecided(op) && previous) {

@@ -77,6 +77,8 @@ export interface OperatingPoint {
   resistors: ResistorOperatingPoint[];
   /** Largest KCL residual of the real circuit at the solution (amps). */
   residualAmps: number;
+  /** Nets outside the span of the fixed voltages (`voltageSpan`), as `name at V`: empty for a solution; any makes it not converged. */
+  outsideSpan: string[];
   hints: HintOutcome[];
   diagnostics: Diagnostic[];
   /** The solved unknowns, to warm-start another solve of the same system. */
@@ -254,10 +256,12 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
       ]),
     );
     converged = false;
-  } else {
+  }
+  let outside: string[] = [];
+  if (converged) {
     // A solution that meets KCL but leaves the span of the fixed voltages comes from a
     // device law gone wrong, never from a circuit: it is not reported as a state.
-    const outside = nodesOutsideSpan(c, x);
+    outside = nodesOutsideSpan(c, x);
     if (outside.length > 0) {
       const span = voltageSpan(c);
       diagnostics.push(
@@ -295,7 +299,7 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
   }
   const tubes = tubeReport(c, x);
   append(diagnostics, trustedRangeWarnings(design, tubes));
-  return { converged, method, iterations, nodes, tubes, resistors: resistorReport(c, x), residualAmps, hints: outcomes, diagnostics, x, system };
+  return { converged, method, iterations, nodes, tubes, resistors: resistorReport(c, x), residualAmps, outsideSpan: outside, hints: outcomes, diagnostics, x, system };
 }
 
 /**

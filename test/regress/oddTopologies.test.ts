@@ -47,6 +47,23 @@ button B (a, bias)
   });
 });
 
+describe('a plate tied by a closed switch to a stiff drive', () => {
+  it('is judged (a failure to vouch for, with its reason), not an internal error, in check, sweep and report', async () => {
+    const text = `rail bp = 150 V
+rail bias = -50 V
+resistor RX (x, bias) 100 k
+drive D (a) -6 V
+stage q { tube "12AU7"; load 47 k to bp; input x series 100 k pulldown 100 k to bias }
+switch S (q, a) closed
+`;
+    for (const args of [['check', 'd.tube'], ['sweep', 'd.tube', '--rail', 'bp=100:140:10'], ['report', 'd.tube', '-o', 'x.html']]) {
+      const r = await runCommand(args, { 'd.tube': text });
+      expect([0, 1, 2], args.join(' ')).toContain(r.code);
+      expect(r.err + r.out).not.toMatch(/internal error|NaN|Infinity/);
+    }
+  });
+});
+
 describe('kilovolt designs and designs without logic', () => {
   it('solves a 2.4 kV divider to Ohm\'s law: gmin\'s own nanoamp at a kilovolt must not stop it', async () => {
     const op = solveOperatingPoint(design('rail hv = 2400 V\nresistor R1 (hv, mid) 1 M rating 100 W\nresistor R2 (mid, gnd) 1 M rating 100 W\n'));
