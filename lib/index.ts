@@ -34,6 +34,7 @@ export { tubeCurrents, softplus, sigmoid, NOMINAL_VARIATION, type SectionVariati
 export { SparseLu } from './solve/sparseLu.js';
 export type { LinearSystem, LinearSystemFactory } from './solve/linearSystem.js';
 export { compileCircuit, type Circuit, type CompileOptions } from './solve/circuit.js';
+export { nodesOutsideSpan, transientSpan, voltageSpan, withinSpan, type VoltageSpan } from './solve/voltageSpan.js';
 export { DcSystem, type NewtonSettings } from './solve/dcSystem.js';
 export {
   solveOperatingPoint,
