@@ -26,7 +26,13 @@ export interface FuzzDesign {
   arrayCells: number;
 }
 
+/** The circuits a design is made of. */
+export type Motif = 'chain' | 'nor' | 'latch' | 'fanout' | 'array' | 'raw';
+export const MOTIFS: readonly Motif[] = ['chain', 'nor', 'latch', 'fanout', 'array', 'raw'];
+
 export interface FuzzDesignOptions {
+  /** The motifs to draw from (all by default). */
+  motifs?: readonly Motif[];
   /** Motifs (chains, gates, latches, …) at most; tiny designs take 1. */
   maxMotifs?: number;
   /** Chance that an instance array is long (up to `longArray` cells). */
@@ -35,15 +41,15 @@ export interface FuzzDesignOptions {
 }
 
 /** The library designations the generator copies, by kind (`tubemargin tubes` lists them). */
-const LIBRARY: { designation: string; pentode: boolean }[] = [
-  { designation: '12AU7', pentode: false },
-  { designation: '12AX7', pentode: false },
-  { designation: '12AT7', pentode: false },
-  { designation: '6DJ8', pentode: false },
-  { designation: '6SN7', pentode: false },
-  { designation: '6CG7', pentode: false },
-  { designation: '6AU6', pentode: true },
-  { designation: '6CB6', pentode: true },
+const LIBRARY: { designation: string; pentode: boolean; koren: boolean }[] = [
+  { designation: '12AU7', pentode: false, koren: true },
+  { designation: '12AX7', pentode: false, koren: true },
+  { designation: '12AT7', pentode: false, koren: true },
+  { designation: '6DJ8', pentode: false, koren: true },
+  { designation: '6SN7', pentode: false, koren: false },
+  { designation: '6CG7', pentode: false, koren: false },
+  { designation: '6AU6', pentode: true, koren: true },
+  { designation: '6CB6', pentode: true, koren: true },
 ];
 
 /** One draw source over `fc.gen`: every method shrinks towards its first, plainest answer. */
@@ -83,9 +89,22 @@ class Draw {
 
 /** A number as the language reads it: four significant digits, exponent form where needed. */
 export function num(x: number): string {
-  const s = Number(x.toPrecision(4)).toString();
-  return s;
+  return Number(x.toPrecision(4)).toString();
 }
+
+/** SI multipliers the language reads, by power of ten. */
+const MULTIPLIERS: [number, string][] = [
+  [-12, 'p'],
+  [-9, 'n'],
+  [-6, 'u'],
+  [-3, 'm'],
+  [3, 'k'],
+  [6, 'M'],
+  [9, 'G'],
+];
+
+/** Unit symbols by place (the language also takes the place's unit implied). */
+export type Unit = 'Ω' | 'F' | 'V' | 'W' | 'A';
 
 const pct = (fraction: number) => `${num(Math.round(fraction * 1000) / 10)} %`;
 
@@ -96,10 +115,13 @@ interface TypeInfo {
 }
 
 /**
- * The ranges the language accepts for model and diode constants (docs/LANGUAGE.md, the
- * `value-out-of-range` diagnostic); odd designs use their ends.
+ * The ranges the language accepts (docs/LANGUAGE.md, the `value-out-of-range` diagnostic):
+ * odd designs use their ends, and now and then step just past one.
  */
 const ACCEPTED = {
+  ohms: [1e-3, 1e12],
+  farads: [1e-18, 1],
+  watts: [1e-6, 1e5],
   mu: [0.5, 1000],
   ex: [1, 3],
   kg1: [1, 1e6],
@@ -114,9 +136,8 @@ const ACCEPTED = {
   rs: [0, 1e6],
 } as const satisfies Record<string, readonly [number, number]>;
 
-/** Resistances: plain 1 kΩ–1 MΩ, extreme 1e-12–1e12 Ω. */
+/** Resistances: plain 1 kΩ–1 MΩ, odd anywhere from 1 mΩ to 1 TΩ, and past both ends (down to 1e-12 Ω) now and then. */
 const RES_PLAIN: [number, number] = [1e3, 1e6];
-const RES_EXTREME: [number, number] = [1e-12, 1e12];
 
 class Builder {
   readonly lines: string[] = [];
@@ -138,8 +159,34 @@ class Builder {
     return `${prefix}${this.counter++}`;
   }
 
-  res(odd = 0.08): string {
-    return num(this.d.value(RES_PLAIN, RES_EXTREME, odd));
+  /**
+   * A value written in one of the forms the language reads: a plain number, an SI
+   * multiplier with or without the unit (`33 k`, `33k`, `33 kΩ`, `4.7 nF`), the resistor
+   * code of IEC 60062 (`4k7`), a sum in parentheses, or a `let` value defined just before.
+   */
+  quantity(x: number, unit: Unit, named = true): string {
+    const d = this.d;
+    const form = d.int(0, named ? 19 : 18);
+    if (form < 11 || x === 0) return num(x);
+    if (form < 17) {
+      const near = MULTIPLIERS.filter(([p]) => Math.abs(Math.log10(Math.abs(x)) - p) < 3);
+      if (near.length === 0) return num(x);
+      const [power, prefix] = d.pick(near);
+      const mantissa = num(x / 10 ** power);
+      if (/e/.test(mantissa)) return num(x);
+      const symbol = unit === 'Ω' ? d.pick(['Ω', 'ohm', 'ohms']) : unit;
+      // The resistor code: the multiplier letter stands for the decimal point (4k7 is 4.7 kΩ).
+      if (form === 16 && unit === 'Ω' && /\./.test(mantissa) && Number(mantissa) >= 1 && 'kMG'.includes(prefix)) return mantissa.replace('.', prefix);
+      return d.pick([`${mantissa} ${prefix}`, `${mantissa}${prefix}`, `${mantissa} ${prefix}${symbol}`]).trimEnd();
+    }
+    if (form < 19) return `(${num(x / 4)} + ${num((3 * x) / 4)})`;
+    const name = this.fresh('v');
+    this.lines.push(`let ${name} = ${num(x)}${unit === 'Ω' ? '' : ` ${unit}`}`);
+    return name;
+  }
+
+  res(odd = 0.03, named = true): string {
+    return this.quantity(this.param('ohms', RES_PLAIN, odd, [1e-12, 1e13]), 'Ω', named);
   }
 
   /**
@@ -147,16 +194,19 @@ class Builder {
    * language accepts or exactly at one of its ends, and rarely just outside it (a design
    * that must be turned away with a diagnostic).
    */
-  param(field: keyof typeof ACCEPTED, plain: [number, number], odd = 0.15): number {
+  param(field: keyof typeof ACCEPTED, plain: [number, number], odd = 0.15, past: number[] = []): number {
     const [min, max] = ACCEPTED[field];
-    if (this.d.chance(0.005)) return this.d.pick([min / 10, max * 10, min === 0 ? -1 : -min]);
+    // Resistances are many to a design: step past their range less often, so most designs still load.
+    if (this.d.chance(field === 'ohms' ? 0.0015 : 0.005)) return this.d.pick([min / 10, max * 10, min === 0 ? -1 : -min, ...past]);
     return this.d.value(plain, [min === 0 ? 1e-12 : min, max], odd);
   }
 
-  /** An optional tolerance tail, 0–50 %. */
+  /** Optional tails of a resistor: a tolerance of 0–50 %, a power rating. */
   tol(): string {
-    if (!this.d.chance(0.3)) return '';
-    return ` tol ${pct(this.d.pick([0, 0.5, this.d.uniform(0, 0.5)]))}`;
+    let tail = '';
+    if (this.d.chance(0.3)) tail += ` tol ${pct(this.d.pick([0, 0.5, this.d.uniform(0, 0.5)]))}`;
+    if (this.d.chance(0.05)) tail += ` rating ${this.quantity(this.param('watts', [0.125, 2]), 'W')}`;
+    return tail;
   }
 
   positiveRail(): string {
@@ -194,7 +244,7 @@ class Builder {
       const volts = sign * Number(magnitude.toPrecision(4));
       let line = `rail ${name} = ${num(volts)} V`;
       if (d.chance(0.6)) line += ` tol ${pct(d.pick([0.05, 0, 0.5, d.uniform(0, 0.5)]))}`;
-      if (d.chance(0.2)) line += ` source ${this.res(0.3)}`;
+      if (d.chance(0.2)) line += ` source ${this.res(0.1)}`;
       this.lines.push(line);
       this.rails.push({ name, volts });
     }
@@ -207,9 +257,9 @@ class Builder {
     if (d.chance(0.5)) {
       const fields: string[] = [];
       if (d.chance(0.5)) fields.push(`tolerance = ${pct(d.uniform(0, 0.5))}`);
-      if (d.chance(0.5)) fields.push(`margin = ${num(d.value([0.5, 5], [1e-6, 1e3]))} V`);
-      if (d.chance(0.2)) fields.push(`rating = ${num(d.value([0.25, 2], [1e-9, 1e6]))} W`);
-      if (d.chance(0.2)) fields.push(`stray = ${num(d.value([1e-12, 1e-10], [1e-18, 1e-3]))} F`);
+      if (d.chance(0.5)) fields.push(`margin = ${this.quantity(d.value([0.5, 5], [1e-6, 1e3]), 'V')}`);
+      if (d.chance(0.2)) fields.push(`rating = ${this.quantity(this.param('watts', [0.25, 2]), 'W')}`);
+      if (d.chance(0.2)) fields.push(`stray = ${this.quantity(this.param('farads', [1e-12, 1e-10]), 'F')}`);
       if (d.chance(0.3)) fields.push(`tube = ${this.types[0]!.ref}`);
       this.lines.push(`defaults { ${fields.join(', ')} }`);
     }
@@ -229,7 +279,7 @@ class Builder {
       pentode = lib.pentode;
       head = `type ${name} like "${lib.designation}"`;
       if (d.chance(0.3)) field('mu', [5, 100]);
-      if (d.chance(0.2) && !lib.designation.startsWith('6SN7') && lib.designation !== '6CG7') field('ex', [1.2, 1.6]);
+      if (d.chance(0.2) && lib.koren) field('ex', [1.2, 1.6]);
     } else if (kind === 1) {
       pentode = false;
       head = `type ${name} koren-triode`;
@@ -253,7 +303,7 @@ class Builder {
       field('mu', [5, 100]);
       field('k', [1e-4, 3e-3]);
     }
-    if (d.chance(0.2)) field('rgi', [500, 1e4]);
+    if (d.chance(0.2)) fields.push(`rgi = ${this.quantity(this.param('rgi', [500, 1e4]), 'Ω')}`);
     if (d.chance(0.35)) fields.push(`vgamma = ${num(d.chance(0.03) ? d.pick([-2.5, 2.5, -100]) : d.pick([d.uniform(-2, 2), -2, 2, 0]))} V`);
     if (d.chance(0.3)) fields.push(`spread = ${pct(d.pick([d.uniform(0, 0.5), 0, 0.5]))}`);
     this.lines.push(fields.length > 0 || kind !== 0 ? `${head} { ${fields.join(', ')} }` : head);
@@ -276,7 +326,7 @@ class Builder {
         continue;
       }
       let item = `input ${input} series ${this.res()}${this.tol()}`;
-      if (d.chance(0.15)) item += ` speedup ${num(d.value([10e-12, 200e-12], [1e-18, 1]))}`;
+      if (d.chance(0.15)) item += ` speedup ${this.quantity(this.param('farads', [10e-12, 200e-12]), 'F')}`;
       if (d.chance(0.85)) item += ` pulldown ${this.res()}${this.tol()} to ${this.negativeRail()}`;
       items.push(item);
     }
@@ -296,17 +346,19 @@ class Builder {
   source(): string {
     const d = this.d;
     const net = this.fresh('in');
-    const how = d.int(0, 3);
+    // A drive (40 %), a switch (20 %), a button (35 %), a stiff drive a button can short (5 %).
+    const roll = d.int(0, 19);
+    const how = roll < 8 ? 0 : roll < 12 ? 1 : roll < 19 ? 2 : 3;
     if (how === 0 || how === 3) {
       const name = this.fresh('DR');
       const volts = Number(d.pick([d.uniform(-20, 50), 0, d.value([1, 300], [1e-6, 1e4], 0.2) * d.pick([1, -1])]).toPrecision(4));
       let line = `drive ${name} (${net}) ${num(volts)} V`;
       if (d.chance(0.4)) line += ` tol ${pct(d.uniform(0, 0.5))}`;
-      const stiff = !d.chance(0.5);
+      const stiff = how === 3 || !d.chance(0.5);
       if (!stiff) line += ` source ${this.res(0.2)}`;
       this.lines.push(line);
       this.drives.push({ name, volts });
-      if (how === 3 || d.chance(0.1)) {
+      if (how === 3 || d.chance(0.03)) {
         // A button that shorts the driven net to ground or a rail.
         const b = this.fresh('B');
         this.lines.push(`button ${b} (${net}, ${this.anyRail()})`);
@@ -366,7 +418,8 @@ class Builder {
     const n = long ? d.int(100, this.options.longArray) : d.int(1, 16);
     this.arrayCells += n;
     this.lines.push(`block ${block} (a, b) {`);
-    this.lines.push(`  param rl = ${this.res()}`);
+    // A parameter's default cannot name a value of the block; an override can name a global one.
+    this.lines.push(`  param rl = ${this.res(0.03, false)}`);
     this.lines.push(`  ${this.stageText('b', ['a'], 'rl')}`);
     this.lines.push('}');
     const bus = this.fresh('x');
@@ -391,16 +444,18 @@ class Builder {
     const d = this.d;
     const n = d.int(1, 4);
     for (let i = 0; i < n; i++) {
-      const what = d.int(0, 4);
+      // Resistors 30 %, capacitors, diodes and sections 20 % each, contacts 10 % (a contact between two fixed voltages is a short the design is refused for).
+      const roll = d.int(0, 9);
+      const what = roll < 3 ? 0 : roll < 5 ? 1 : roll < 7 ? 2 : roll < 8 ? 3 : 4;
       const a = this.signal();
       const b = d.chance(0.5) ? this.signal() : this.anyRail();
       if (what === 0) this.lines.push(`resistor ${this.fresh('R')} (${a}, ${b}) ${this.res(0.3)}${this.tol()}`);
-      else if (what === 1) this.lines.push(`capacitor ${this.fresh('C')} (${a}, ${b}) ${num(d.value([1e-12, 1e-6], [1e-18, 1e3]))}${d.chance(0.3) ? ` tol ${pct(d.uniform(0, 0.5))}` : ''}`);
+      else if (what === 1) this.lines.push(`capacitor ${this.fresh('C')} (${a}, ${b}) ${this.quantity(this.param('farads', [1e-12, 1e-6]), 'F')}${d.chance(0.3) ? ` tol ${pct(d.uniform(0, 0.5))}` : ''}`);
       else if (what === 2) {
         const fields: string[] = [];
-        if (d.chance(0.6)) fields.push(`is = ${num(this.param('is', [1e-12, 1e-6], 0.4))}`);
+        if (d.chance(0.6)) fields.push(`is = ${this.quantity(this.param('is', [1e-12, 1e-6], 0.4), 'A')}`);
         if (d.chance(0.6)) fields.push(`n = ${num(this.param('n', [1, 2], 0.4))}`);
-        if (d.chance(0.6)) fields.push(`rs = ${d.chance(0.1) ? '0' : num(this.param('rs', [1, 100], 0.4))}`);
+        if (d.chance(0.6)) fields.push(`rs = ${d.chance(0.1) ? '0' : this.quantity(this.param('rs', [1, 100], 0.4), 'Ω')}`);
         this.lines.push(`diode ${this.fresh('D')} (${a}, ${b})${fields.length > 0 ? ` { ${fields.join(', ')} }` : ''}`);
       } else if (what === 3) {
         const s = this.fresh(d.chance(0.5) ? 'B' : 'S');
@@ -423,22 +478,16 @@ class Builder {
 
 /**
  * The fast-check arbitrary of odd but valid designs. Example:
- * `fc.sample(fuzzDesigns(), { seed: 1, numRuns: 1 })[0].text` starts `rail bp = …`.
+ * `sampleDesigns(1, 1)[0].text` holds a line `rail bp = … V`, types, and stages or parts.
  */
 export function fuzzDesigns(options: FuzzDesignOptions = {}): fc.Arbitrary<FuzzDesign> {
-  const settings: Required<FuzzDesignOptions> = { maxMotifs: 5, longArrayChance: 0.02, longArray: 1000, ...options };
+  const settings: Required<FuzzDesignOptions> = { motifs: MOTIFS, maxMotifs: 5, longArrayChance: 0.02, longArray: 1000, ...options };
   return fc.gen().map((g) => {
     const b = new Builder(new Draw(g), settings);
     b.header();
     const motifs = b.d.int(1, settings.maxMotifs);
     for (let i = 0; i < motifs; i++) {
-      const m = b.d.int(0, 5);
-      if (m === 0) b.chain();
-      else if (m === 1) b.nor();
-      else if (m === 2) b.latch();
-      else if (m === 3) b.fanout();
-      else if (m === 4) b.array();
-      else b.raw();
+      b[b.d.pick(settings.motifs)]();
     }
     return { text: b.lines.join('\n') + '\n', rails: b.rails, buttons: b.buttons, drives: b.drives, arrayCells: b.arrayCells };
   });
