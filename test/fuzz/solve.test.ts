@@ -7,7 +7,8 @@ import { sampleDesigns } from '../../tools/fuzzDesigns.js';
  * commands.test.ts: 10,000 runs in all): odd but valid designs from the language's own
  * grammar (tools/fuzzDesigns.ts), each run held to the invariants of tools/fuzz.ts — no
  * internal error; no NaN or Infinity; no null without a `…Why` reason; every DC net within
- * the span of the fixed voltages widened by 2.5 V; no run over 10 s. The span is
+ * the span of the fixed voltages widened by the grid onsets behind each net and 0.5 V; no run
+ * over 60 s. The span is
  * Kirchhoff's current law on passive elements (a node of resistors, diodes and tubes
  * cannot lie outside the voltages that feed it: the maximum principle of a resistive
  * network; common practice, no source), widened by the bounded grid-current onset.
