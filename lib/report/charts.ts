@@ -33,7 +33,9 @@ const base = (title: string, width = 520, height = 300) => ({
   config: { font: FONT.font, axis: { labelFont: FONT.labelFont, titleFont: FONT.titleFont, gridColor: '#e6e2d8', domainColor: PALETTE.guide, tickColor: PALETTE.guide }, view: { stroke: null }, background: '#fbf8f1' },
 });
 
-const points = (c: TransferCurve, extra: Record<string, string> = {}) => Array.from({ length: c.vin.length }, (_, i) => ({ vin: c.vin[i]!, vout: c.vout[i]!, ...extra }));
+// A point the sweep could not solve is left out of the plot: it is no level, and would print as NaN.
+const points = (c: TransferCurve, extra: Record<string, string> = {}) =>
+  Array.from({ length: c.vin.length }, (_, i) => ({ vin: c.vin[i]!, vout: c.vout[i]!, ...extra })).filter((p) => Number.isFinite(p.vin) && Number.isFinite(p.vout));
 
 /** Every net's smaller noise margin against the required one, weakest first (at most 40 nets). */
 export function marginChart(nets: readonly NetCheck[], required: number): TopLevelSpec {
@@ -104,7 +106,7 @@ export function butterflyChart(latch: LatchResult): TopLevelSpec | undefined {
   if (!b) return undefined;
   const [a, c] = latch.nets;
   const [f1, f2] = b.curves;
-  const values = [...points(f1, { curve: `${c} from ${a}` }), ...Array.from({ length: f2.vin.length }, (_, i) => ({ vin: f2.vout[i]!, vout: f2.vin[i]!, curve: `${a} from ${c}` }))];
+  const values = [...points(f1, { curve: `${c} from ${a}` }), ...Array.from({ length: f2.vin.length }, (_, i) => ({ vin: f2.vout[i]!, vout: f2.vin[i]!, curve: `${a} from ${c}` })).filter((p) => Number.isFinite(p.vin) && Number.isFinite(p.vout))];
   const squares = b.nominal.bistable ? b.nominal.squares.map((q) => ({ x: q.x, y: q.y, x2: q.x + q.side, y2: q.y + q.side })) : [];
   return {
     ...base(`Latch ${a} ↔ ${c}: SNM ${latch.snm.nominal.toFixed(2)} V nominal, ${latch.snm.worst.toFixed(2)} V worst`, 320, 320),
