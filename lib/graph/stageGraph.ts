@@ -99,6 +99,9 @@ export function buildStageGraph(design: Design): StageGraph {
 
   const feeders = (grid: string): string[] => {
     if (isLogic(grid)) return [grid];
+    // A grid tied straight to a rail or ground reads a fixed voltage: the plates loaded to
+    // that rail do not feed it (searching from the rail would find every one of them).
+    if (fixed.has(grid)) return [];
     const found = new Set<string>();
     const seen = new Set<string>([grid]);
     const queue = [grid];

@@ -59,6 +59,20 @@ drive X (x) 0 V`);
     expect(s.nets).toEqual(['a:stage:1:2', 'b:stage:1:1', 'c:stage:2:0', 'x:input:0:1']);
   });
 
+  it('takes a grid tied straight to a rail as fed by nothing, not by every plate loaded to that rail', () => {
+    // A rail is a fixed voltage (Kirchhoff: an ideal source's node does not move with the
+    // currents into it), so no plate reaches a grid through it. Searching from the rail
+    // once made each of a thousand plates a feeder of such a grid: false loops, and a
+    // check that re-solved the wide stage for each of them (a 48 s check, a 282 s sweep).
+    const s = summary(`${HEADER}
+stage a { load 33 k to bp; input x series 220 k pulldown 220 k to bias; input bp direct }
+stage b { load 33 k to bp; input a series 220 k pulldown 220 k to bias }
+stage c { load 33 k to bp; input a series 220 k pulldown 220 k to bias }
+drive X (x) 0 V`);
+    expect(s.loops).toEqual([]);
+    expect(s.nets).toEqual(['a:stage:2:2', 'b:stage:1:0', 'c:stage:1:0', 'x:input:0:1']);
+  });
+
   it('follows a diode gate to the nets behind it, and takes a follower’s cathode as its output', () => {
     const g = buildStageGraph(design(`${HEADER}
 stage a { load 33 k to bp; input x direct }
