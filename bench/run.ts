@@ -5,6 +5,8 @@ import { againstDense, benchSizes, iterationAgainstModels } from './solverBench.
 import { benchCheck } from './checkBench.js';
 import { benchDemoYield, benchSampling } from './samplingBench.js';
 import { benchPulse } from './pulseBench.js';
+import { familyDesigns } from './family.js';
+import { runFamily } from './familyOracle.js';
 
 /**
  * `npm run bench`: measures, in one run, what the goals in docs/PERFORMANCE.md are about,
@@ -100,6 +102,27 @@ const checkTable = [
 ].join('\n');
 process.stdout.write(checkTable + '\n');
 
+// ---- check against the oracle family ------------------------------------------------------
+const family = runFamily(familyDesigns(2026015, 45), 200);
+const judged = family.comparisons.flatMap((c) => c.verdicts);
+const count = (status: string, basis: string) => judged.filter((v) => v.status === status && v.basis === basis).length;
+const familyTable = [
+  `Measured ${new Date().toISOString().slice(0, 10)} on ${process.platform}/${process.arch}, Node ${process.version}, by \`npm run bench\` (bench/family.ts, seed 2026015; every corner and 200 interior points of each design solved whole).`,
+  '',
+  '| figure | value |',
+  '|---|---:|',
+  `| designs (latches, fan-outs, chains) | ${family.designs} |`,
+  `| levels compared | ${family.levels} |`,
+  `| levels reported better than the truth (optimistic; goal 0) | **${family.optimistic.length}** |`,
+  `| bound's pessimism, median / worst (goal 0.1 V / 0.5 V) | ${family.median.toFixed(2)} V / ${family.worst.toFixed(2)} V |`,
+  `| latch verdicts equal to "both states exist at every point" | **${family.latchAgree} of ${family.latches}** (${family.comparisons.filter((c) => c.latch?.truth).length} hold) |`,
+  `| witnesses printed / reproduced by re-solving the whole design | ${family.witnesses} / ${family.witnesses - family.unreproduced.length} |`,
+  `| nets: ok by bounds / ok by corners / FAIL with a witness / FAIL by bound / UNDECIDED | ${count('pass', 'bounds')} / ${count('pass', 'corners')} / ${count('fail', 'witness')} / ${count('fail', 'bounds')} / ${count('undecided', 'undecided')} |`,
+  `| check, all ${family.designs} designs | ${(family.checkMs / 1000).toFixed(1)} s (${(family.checkMs / family.designs).toFixed(0)} ms a design) |`,
+  `| the truth, all ${family.designs} designs | ${family.solves.toLocaleString('en')} whole-circuit solves, ${((family.ms - family.checkMs) / 1000).toFixed(1)} s |`,
+].join('\n');
+process.stdout.write(familyTable + '\n');
+
 // ---- Monte Carlo ---------------------------------------------------------------------
 const sampling = await benchSampling(2000, 100, 500);
 const demo1 = await benchDemoYield('nets/crate-tally.tube', 10_000, 1);
@@ -145,6 +168,7 @@ if (process.argv.includes('--write')) {
   put('front-end', table);
   put('solver', solverTable);
   put('check', checkTable);
+  put('family', familyTable);
   put('sampling', samplingTable);
   put('pulse', pulseTable);
   writeFileSync(path, doc);

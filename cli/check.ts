@@ -13,10 +13,13 @@ resistor and rail tolerances, tube spread and the chosen ageing scenario,
 chained from stage to stage and settled around loops; the noise margins
 against the unity-gain thresholds of every input it feeds; the cutoff and
 drive margins of its sections; and how many more standard loads it could
-feed. Every latch is checked for holding (static noise margin) and for
-switching from each set and reset input at its weakest asserted level.
-Nets are listed weakest first; the weakest three are explained by the
-parameters whose corners make them weak.
+feed. Every latch is checked for holding (both states exist at every corner)
+and for switching from each set and reset input at its weakest asserted level.
+Where a bound fails, the whole design is solved at the corners of the parts
+that matter most: a corner that fails is printed as a witness (re-solve it
+with solve --at), every corner passing passes it, and otherwise it is
+UNDECIDED (exit 1: it may fail). Nets are listed weakest first; the weakest
+three are explained by the parameters whose corners make them weak.
 
 --margin overrides the design's required margin (defaults { margin = … }).
 --age picks the ageing scenario: ${AGEING_SCENARIOS.map((s) => s.name).join(', ')}.
@@ -26,8 +29,8 @@ with its 95 % interval, each net's margin distribution and the parts that go
 with failures; --workers K spreads it over K threads (the same result).
 --shrink searches for a failing set of part values (from the worst corners,
 then 300 random ones) and shrinks it to the smallest deviations that fail.
-Exit code 0 when everything passes, 1 when a margin or a latch fails, 2 for
-bad input.`;
+Exit code 0 when everything passes, 1 when a margin or a latch fails or is
+undecided, 2 for bad input.`;
 
 export interface CheckCliOptions extends GlobalOptions {
   json?: boolean;
@@ -107,7 +110,7 @@ export async function runCheck(file: string, options: CheckCliOptions, io: CliIo
   else {
     const text = renderCheck(loaded.design, result, file, sampled, shrunk);
     const out = chalkFor(io, 'stdout');
-    io.stdout(text.replace(/^(PASS|FAIL)/m, (w) => (w === 'PASS' ? out.green.bold(w) : out.red.bold(w))));
+    io.stdout(text.replace(/^(PASS|FAIL|UNDECIDED)/m, (w) => (w === 'PASS' ? out.green.bold(w) : w === 'FAIL' ? out.red.bold(w) : out.yellow.bold(w))));
   }
   return result.verdict === 'pass' ? EXIT.ok : EXIT.failed;
 }

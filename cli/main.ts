@@ -82,6 +82,8 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect, [])
     .option('--close <SWITCH>', 'close a switch or press a button for this solve; repeatable', collect, [])
     .option('--json', 'print the operating point as tubemargin.solve/1 JSON')
+    .option('--at <FILE>', 're-solve a witness of check: a witness object, or a check --json report')
+    .option('--at-net <NAME>', 'with --at on a report: the net (or a net of the latch) whose witness to take')
     .action((file: string, opts: SolveCliOptions) => {
       code = runSolve(file, { ...program.opts(), ...opts }, io);
     });

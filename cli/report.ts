@@ -75,6 +75,6 @@ export async function runReport(file: string, options: ReportCliOptions, io: Cli
   const html = await renderHtmlReport({ design: loaded.design, check: checked.result, source: file, nominal: 'nodes' in op && op.converged ? op : undefined, samples: checked.sampled, sweep });
   const failed = writeReport(out, html, io);
   if (failed !== undefined) return failed;
-  io.stderr(`wrote ${out}: ${checked.result.verdict === 'pass' ? 'PASS' : 'FAIL'}\n`);
+  io.stderr(`wrote ${out}: ${checked.result.verdict.toUpperCase()}\n`);
   return checked.result.verdict === 'pass' ? EXIT.ok : EXIT.failed;
 }

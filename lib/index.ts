@@ -64,6 +64,8 @@ export { receiverThresholds, type ReceiverThresholds } from './analysis/receiver
 export { cutoffMargin, driveMargin, cutoffGrid, CUTOFF_FRACTION, type GridMargin } from './analysis/gridMargins.js';
 export { fanoutHeadroom, standardLoad, MAX_EXTRA_LOADS, type StandardLoad } from './analysis/fanoutHeadroom.js';
 export { latchCheck, type LatchInput, type LatchResult } from './analysis/latchCheck.js';
+export { CORNER_WORK, CornerBudget, designAtValues, EXHAUSTIVE_PARAMETERS, reproduceWitness, searchCorners, WholeDesign, type CornerAnswer, type CornerQuestion, type Reproduction, type Witness } from './analysis/cornerSearch.js';
+export { MAX_WHOLE_STATES, Refiner, wholeStates, type NetRefinement, type RefineQuestion, type WholeState } from './analysis/refineNets.js';
 export { checkMargins, type CheckOptions, type CheckResult, type NetCheck, type Cause, type ReceiverMargin } from './analysis/check.js';
 export { DISTRIBUTIONS, GRADED_INNER, SampleDrawer, Sampler, drawSample, samplingThresholds, summarizeSamples, wilsonInterval, type Distribution, type MonteCarloResult, type SampleOutcome, type SamplingSetup } from './analysis/monteCarlo.js';
 export { analyzeAt, deviationsOf, valueAt, type Analysis, type Deviations } from './analysis/analyzeAt.js';

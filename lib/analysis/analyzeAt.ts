@@ -36,7 +36,7 @@ const prepared = new WeakMap<Design, Prepared>();
 function prepare(design: Design): Prepared {
   let p = prepared.get(design);
   if (p) return p;
-  const check = checkMargins(design);
+  const check = checkMargins(design, { refine: false });
   if (!('verdict' in check)) throw new RangeError(`the design cannot be solved: ${check.diagnostics.map((d) => d.message).join('; ')}`);
   const sampler = new Sampler(design, { seed: 0, distribution: 'uniform', scenario: 'new', requiredMargin: check.requiredMargin, thresholds: samplingThresholds(check) });
   const kindOf = { R: 'resistor', V: 'rail', D: 'drive', P: 'perveance' } as const;

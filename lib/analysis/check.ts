@@ -9,6 +9,8 @@ import { fanoutHeadroom, MAX_EXTRA_LOADS, standardLoad, type StandardLoad } from
 import { cutoffMargin, driveMargin, type GridMargin } from './gridMargins.js';
 import { LevelChain, type CaseResult, type ChainNet } from './levelChain.js';
 import { latchCheck, type LatchResult } from './latchCheck.js';
+import type { Witness } from './cornerSearch.js';
+import { refineVerdicts, type RefineQuestion } from './refineNets.js';
 import type { LocalParameter } from './localProblem.js';
 import { receiverThresholds } from './receiverThresholds.js';
 import type { TransferCurve } from './staticNoiseMargin.js';
@@ -25,6 +27,15 @@ export interface CheckOptions {
   headroom?: boolean;
   /** Work out ratings and budgets (false when absent): a nominal full solve and the corners of largest dissipation. */
   ratings?: boolean;
+  /**
+   * Put what the bounds cannot decide to the corners of the whole design (true when
+   * absent). A supply sweep or a search for part values, which checks many variants of a
+   * design, leaves it out: its verdicts then rest on the bounds alone, which never pass
+   * what can fail but may fail what would pass.
+   */
+  refine?: boolean;
+  /** The work refinement may spend (`CORNER_WORK` when absent): a harness that runs thousands of checks sets less. */
+  cornerWork?: number;
 }
 
 /** One parameter's part in making a level weak. */
@@ -66,8 +77,22 @@ export interface NetCheck {
   driveMargin: GridMargin | undefined;
   /** More standard loads it can take before a margin drops below the required one. */
   headroom: number | undefined;
-  status: 'pass' | 'fail' | 'unchecked';
+  /** `undecided`: the bound fails, and the corners of the whole design searched neither fail it nor cover every corner. */
+  status: 'pass' | 'fail' | 'undecided' | 'unchecked';
   reasons: string[];
+  /**
+   * What decided the status: `bounds`, the chained worst-case bounds; `corners`, the
+   * bound failed but every corner of the whole design passes; `witness`, a corner where
+   * the whole design fails (`witness`); `undecided`, neither.
+   */
+  basis: 'bounds' | 'corners' | 'witness' | 'undecided';
+  /** The worst levels found at corners of the whole design, beside the bounds, for a net whose bound failed. */
+  found: { high: number | undefined; low: number | undefined } | undefined;
+  witness: Witness | undefined;
+  /** What the bound fails on that corners of the whole design can decide (undefined: a failure of another kind, which the bound decides). */
+  refinable: RefineQuestion[] | undefined;
+  /** How a net whose bound failed was shown to pass. */
+  note: string | undefined;
   /** The level that limits the net, and the parameters whose corners make it so, largest first (given for failing nets and the three weakest). */
   weakest: { what: 'high' | 'low' | 'cutoff'; causes: Cause[] } | undefined;
   /** Nets of one class are the same problem all the way out and have the same figures. */
@@ -80,7 +105,8 @@ export interface CheckResult {
   title: string;
   scenario: AgeingScenario;
   requiredMargin: number;
-  verdict: 'pass' | 'fail';
+  /** `undecided`: nothing was shown to fail, but a net or latch could be shown neither to pass nor to fail (it may fail). */
+  verdict: 'pass' | 'fail' | 'undecided';
   /** Weakest first. */
   nets: NetCheck[];
   latches: LatchResult[];
@@ -190,17 +216,22 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
     if (n.weakest && (n.status === 'fail' || weakestClasses.has(n.classId))) n.weakest.causes = causesOf(chain, chain.nets.get(n.name)!, n.weakest.what);
   }
   const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => latchCheck(chain, l.nets as [string, string]));
+  // What the bounds cannot decide goes to the corners of the whole design.
+  const refine = options.refine ?? true;
+  if (refine) refineVerdicts({ design, graph, scenario, chain, required, flatInputs, cornerWork: options.cornerWork }, nets, latches);
   let ratings: Ratings | undefined;
   if (options.ratings) {
     const op = solveOperatingPoint(design, { graph });
     ratings = ratingsOf(design, chain, 'nodes' in op && op.converged ? op : undefined);
   }
-  const failed = nets.some((n) => n.status === 'fail') || latches.some((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined)) || !chain.settled || ratings?.ok === false;
+  // Without refinement a latch its bounds cannot show to hold fails, as its bounds say.
+  const failed = nets.some((n) => n.status === 'fail') || latches.some((l) => (refine ? l.basis === 'witness' : !l.holds) || latchSwitchingFails(l)) || !chain.settled || ratings?.ok === false;
+  const undecided = refine && (latches.some((l) => l.basis === 'undecided') || nets.some((n) => n.status === 'undecided'));
   return {
     title: design.title,
     scenario,
     requiredMargin: required,
-    verdict: failed ? 'fail' : 'pass',
+    verdict: failed ? 'fail' : undecided ? 'undecided' : 'pass',
     nets,
     latches,
     standardLoad: load,
@@ -210,6 +241,11 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
     stageKinds: [...kinds.values()],
     ratings,
   };
+}
+
+/** A latch that holds but whose set or reset input does not switch it (a latch that cannot hold has no switching to judge). */
+export function latchSwitchingFails(l: LatchResult): boolean {
+  return l.holds && l.inputs.some((i) => !i.switches && i.note === undefined);
 }
 
 function judgeNet(
@@ -230,6 +266,11 @@ function judgeNet(
   const reasons: string[] = [];
   const base = {
     name,
+    basis: 'bounds' as const,
+    found: undefined,
+    witness: undefined,
+    note: undefined,
+    refinable: undefined,
     classId: chain.classOf(name),
     kind: net.polarity === 'input' ? ('input' as const) : ('stage' as const),
     driver: net.polarity === 'input' ? 'input' : `${net.drivers.length} section${net.drivers.length === 1 ? '' : 's'}`,
@@ -278,7 +319,8 @@ function judgeNet(
     return { ...base, high: unsolved(high), low: unsolved(low), margin: { high: undefined, low: undefined }, cutoffMargin: undefined, driveMargin: undefined, headroom: undefined, status: 'fail', reasons, weakest: undefined, slack: -Infinity };
   }
   if (high && low && high.worst <= low.worst) {
-    const consequence = inLoop.has(name) ? 'it cannot hold a state' : 'its high cannot be told from its low';
+    // Around a loop the bounds alone cannot say a state is lost: the latch's own verdict, decided on the whole design, says that.
+    const consequence = inLoop.has(name) ? 'the bounds cannot show that it holds a state' : 'its high cannot be told from its low';
     reasons.push(`its high and low levels collapse (worst high ${v(high.worst)}, worst low ${v(low.worst)}): ${consequence}`);
   }
   if (cutoff && cutoff.volts < 0) reasons.push(`${cutoff.section} is not cut off while ${name} is high: its grid sits at ${v(cutoff.vgk)}, above its cutoff at ${v(cutoff.reference)}`);
@@ -288,6 +330,17 @@ function judgeNet(
   const short = (x: number) => `${x.toFixed(required - x < 0.005 ? 3 : 2)} V`;
   if (margin.high !== undefined && margin.high < required) reasons.push(`high noise margin ${short(margin.high)} is below the required ${v(required)} (worst high ${v(high!.worst)} against VIH ${v(vihMax!)})`);
   if (margin.low !== undefined && margin.low < required) reasons.push(`low noise margin ${short(margin.low)} is below the required ${v(required)} (worst low ${v(low!.worst)} against VIL ${v(vilMin!)})`);
+  // The corners of the whole design can decide a failure of the levels; not one of a grid, a gain or an unsettled loop.
+  const decidable = reasons.length > 0 && chain.settled;
+  const refinable = decidable
+    ? (['high', 'low', 'cutoff'] as const).filter((x) =>
+        x === 'cutoff'
+          ? cutoff && cutoff.volts < 0
+          : x === 'high'
+            ? high && (high.worst <= thresholdVolts || (margin.high ?? Infinity) < required || (low && high.worst <= low.worst))
+            : low && (low.worst >= thresholdVolts || (margin.low ?? Infinity) < required || (high && high.worst <= low.worst)),
+      )
+    : undefined;
   for (const from of flatInputs.get(name) ?? []) reasons.push(`its gain from ${from} never reaches 1: it cannot restore the levels it is given`);
   if (!chain.settled) reasons.push('the worst-case levels around its loop did not settle');
   const limits: { what: 'high' | 'low' | 'cutoff'; slack: number }[] = [];
@@ -315,6 +368,7 @@ function judgeNet(
     headroom,
     status: reasons.length > 0 ? 'fail' : 'pass',
     reasons,
+    refinable: refinable && [...refinable],
     weakest,
     slack: limits[0]?.slack ?? Infinity,
   };

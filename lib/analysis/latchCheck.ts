@@ -5,6 +5,7 @@ import type { Region } from './region.js';
 import { receiverThresholds, type ReceiverThresholds } from './receiverThresholds.js';
 import { staticNoiseMargin, type ButterflyResult, type TransferCurve } from './staticNoiseMargin.js';
 import { triggerMargin } from './switching.js';
+import type { Witness } from './cornerSearch.js';
 
 /** Whether one set or reset input of a latch switches it. */
 export interface LatchInput {
@@ -26,8 +27,20 @@ export interface LatchInput {
 
 export interface LatchResult {
   nets: [string, string];
-  /** Both states exist in worst case: the butterfly at its worst corners is bistable and each net's levels clear the other stage's thresholds. */
+  /** Both states exist at every corner: shown by the bounds or by the corners of the whole design (see `basis`). */
   holds: boolean;
+  /**
+   * How `holds` was decided: `bounds`, the chained worst-case levels clear the other
+   * stage's thresholds and the worst butterfly is bistable; `corners`, the bounds could
+   * not show it but every corner of the whole design keeps both states; `witness`, a
+   * corner where a state does not exist (`witness`); `undecided`, the bounds cannot
+   * show it and the corners searched lost no state, but not every corner was solved.
+   */
+  basis: 'bounds' | 'corners' | 'witness' | 'undecided';
+  /** The corner where a state does not exist, when `basis` is `witness`. */
+  witness: Witness | undefined;
+  /** Corners of the whole design solved to decide it (0 when the bounds did). */
+  corners: number;
   /** Largest-square static noise margin (Seevinck et al.), nominal and at the worst combination of corners. */
   snm: { nominal: number; worst: number };
   /** The butterflies (for drawing): nominal and worst, and the two nominal curves (second net against first, first against second). */
@@ -99,7 +112,7 @@ export function latchCheck(chain: LevelChain, latch: [string, string]): LatchRes
   if (butterfly && !butterfly.worst.bistable) reasons.push('at its worst corners the two transfer curves cross only once: no second state');
   const holds = levelsHold && snm.worst > 0;
   const inputs = [...latchInputs(chain, b, a), ...latchInputs(chain, a, b)];
-  return { nets: [a, b], holds, snm, butterfly, inputs, reasons };
+  return { nets: [a, b], holds, basis: holds ? 'bounds' : 'undecided', witness: undefined, corners: 0, snm, butterfly, inputs, reasons };
 }
 
 /** The set or reset inputs that pull `pulled` low (the other drivers of its stage than the one `partner` feeds), each checked. */

@@ -5,7 +5,7 @@ import { logicThreshold } from '../solve/operatingPoint.js';
 import type { AgeingScenario } from './ageing.js';
 import { LocalProblem, regionParameters, type LocalParameter } from './localProblem.js';
 import { buildRegion, indexDesign, type DesignIndex, type Region } from './region.js';
-import { searchVertex, type Band } from './vertex.js';
+import { localBands, searchAllCorners, searchVertex, type Band } from './vertex.js';
 import { highest, lowest } from '../lists.js';
 import { coarsestPartition } from './partition.js';
 
@@ -473,7 +473,8 @@ export class LevelChain {
       const at = problem.probe(bands.map((b) => b.nominal));
       judged = at && !this.isHigh(net.name, at.value) ? 'max' : 'min';
     }
-    const found = searchVertex(bands, judged, (v) => problem.probe(v));
+    const vertex = searchVertex(bands, judged, (v) => problem.probe(v));
+    const found = vertex && searchAllCorners(bands, judged, vertex, (v) => (problem.solve(v) ? problem.volts(problem.target) : undefined), localBands(problem.circuit.n));
     const result: CaseResult = { nominal: found?.nominal ?? NaN, worst: found?.worst, sense: judged, bands, vertex: found?.vertex, effects: found?.effects };
     this.results.set(cacheKey, result);
     return result;

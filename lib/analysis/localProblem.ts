@@ -222,13 +222,22 @@ export class LocalProblem {
   /** Solves at `values` and returns the judged net's voltage and its slope in every parameter (adjoint method). */
   probe(values: ArrayLike<number>): Probe | undefined {
     if (!this.solve(values)) return undefined;
+    const slopes = this.slopesAt(this.target);
+    return slopes && { value: this.volts(this.target), slopes };
+  }
+
+  /**
+   * The slope of terminal `t`'s voltage in every parameter at the last solution (adjoint
+   * method: one transposed solve); undefined when the Jacobian is singular there.
+   */
+  slopesAt(t: number): Float64Array | undefined {
     const slopes = new Float64Array(this.kinds.length);
-    if (this.target < 0) {
-      const f = -1 - this.target;
+    if (t < 0) {
+      const f = -1 - t;
       for (let i = 0; i < slopes.length; i++) if (this.kinds[i] !== 'resistor' && this.kinds[i] !== 'perveance' && this.kinds[i] !== 'interface' && this.slots[i] === f) slopes[i] = 1;
-      return { value: this.volts(this.target), slopes };
+      return slopes;
     }
-    const sens = this.system.sensitivities(this.x, this.target, { ...this.settings, maxStep: Infinity });
+    const sens = this.system.sensitivities(this.x, t, { ...this.settings, maxStep: Infinity });
     if (!sens) return undefined;
     for (let i = 0; i < slopes.length; i++) {
       const slot = this.slots[i]!;
@@ -245,6 +254,6 @@ export class LocalProblem {
           slopes[i] = sens.fixed[slot]!;
       }
     }
-    return { value: this.x[this.target]!, slopes };
+    return slopes;
   }
 }

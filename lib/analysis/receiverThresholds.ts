@@ -2,6 +2,7 @@ import type { Receiver } from '../graph/stageGraph.js';
 import type { TransferCurve } from './staticNoiseMargin.js';
 import { unityGainPoints } from './unityGain.js';
 import type { LevelChain } from './levelChain.js';
+import type { LocalProblem } from './localProblem.js';
 
 /** The input thresholds of one receiving stage, seen from the net that drives it. */
 export interface ReceiverThresholds {
@@ -14,12 +15,41 @@ export interface ReceiverThresholds {
   vilMin: number | undefined;
   vihMax: number | undefined;
   curves: { nominal: TransferCurve; early: TransferCurve; late: TransferCurve };
+  /** The parameter values of the early and late curves, in the order of the stage's region parameters (the swept level at 0). */
+  corners: { early: Float64Array; late: Float64Array };
   /** Identifies the curves: receivers with equal keys have equal curves. */
   key: string;
 }
 
 /** Points of each transfer-curve sweep, ends included. */
 export const SWEEP_POINTS = 161;
+
+/** The range a driving net is swept over: its levels, a quarter of the swing below and a tenth above, within the rails. */
+export function sweepRange(chain: LevelChain, driving: string): { lo: number; hi: number; from: number; to: number } {
+  const l = chain.levels.get(driving)!;
+  const lo = l.canLow ? Math.min(l.lowNominal, l.lowWorst) : chain.railMin;
+  const hi = l.canHigh ? Math.max(l.highNominal, l.highWorst) : chain.railMax;
+  const swing = Math.max(1, hi - lo);
+  return { lo, hi, from: Math.max(chain.railMin, lo - 0.25 * swing), to: Math.min(chain.railMax, hi + 0.1 * swing) };
+}
+
+/**
+ * A receiving stage's transfer curve: its output (the problem's target) as parameter
+ * `swept` (the driving net's level) runs from \`from\` to \`to\`, the other parameters at
+ * \`values\`; undefined where a point does not solve.
+ */
+export function sweepCurve(problem: LocalProblem, values: Float64Array, swept: number, from: number, to: number): TransferCurve | undefined {
+  const vin: number[] = [];
+  const vout: number[] = [];
+  for (let k = 0; k < SWEEP_POINTS; k++) {
+    const v = from + ((to - from) * k) / (SWEEP_POINTS - 1);
+    values[swept] = v;
+    if (!problem.solve(values)) return undefined;
+    vin.push(v);
+    vout.push(problem.volts(problem.target));
+  }
+  return { vin, vout };
+}
 
 /**
  * The transfer curve of a receiving stage as a function of the net that drives it, with
@@ -37,12 +67,7 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
   const on = stage.drivers.indexOf(receiver.section);
   const boundary = stage.region.boundaries.indexOf(driving);
   if (boundary < 0) return undefined;
-  const l = chain.levels.get(driving)!;
-  const lo = l.canLow ? Math.min(l.lowNominal, l.lowWorst) : chain.railMin;
-  const hi = l.canHigh ? Math.max(l.highNominal, l.highWorst) : chain.railMax;
-  const swing = Math.max(1, hi - lo);
-  const from = Math.max(chain.railMin, lo - 0.25 * swing);
-  const to = Math.min(chain.railMax, hi + 0.1 * swing);
+  const { lo, hi, from, to } = sweepRange(chain, driving);
   // The stage's class, or else its region kind and the levels around it, fix the curves: stages alike share them.
   const position = stage.driverPositions[on];
   const memoKey = () => `thresholds|${stage.kind}|${position}|${boundary}|${chain.levelKey(stage, on, driving)}|${from}|${to}`;
@@ -56,19 +81,9 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
     if (!at) return undefined;
     const corner = (down: boolean) =>
       Float64Array.from(bands, (b, i) => (i === swept ? 0 : (at.slopes[i]! > 0) === down ? b.low : b.high));
-    const sweep = (values: Float64Array): TransferCurve | undefined => {
-      const vin: number[] = [];
-      const vout: number[] = [];
-      for (let k = 0; k < SWEEP_POINTS; k++) {
-        const v = from + ((to - from) * k) / (SWEEP_POINTS - 1);
-        values[swept] = v;
-        if (!problem.solve(values)) return undefined;
-        vin.push(v);
-        vout.push(problem.volts(problem.target));
-      }
-      return { vin, vout };
-    };
-    const curves = { nominal: sweep(nominal), early: sweep(corner(true)), late: sweep(corner(false)) };
+    const sweep = (values: Float64Array) => sweepCurve(problem, values, swept, from, to);
+    const corners = { early: corner(true), late: corner(false) };
+    const curves = { nominal: sweep(nominal), early: sweep(Float64Array.from(corners.early)), late: sweep(Float64Array.from(corners.late)) };
     if (!curves.nominal || !curves.early || !curves.late) return undefined;
     const early = unityGainPoints(curves.early.vin, curves.early.vout);
     const late = unityGainPoints(curves.late.vin, curves.late.vout);
@@ -78,6 +93,7 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
       vilMin: early?.vil,
       vihMax: late?.vih,
       curves: curves as ReceiverThresholds['curves'],
+      corners,
     };
   });
   return found && { stage: stage.name, section: receiver.section, ...found };

@@ -92,7 +92,7 @@ export function sweepRails(design: Design, options: RailSweepOptions): RailSweep
       const volts = new Map([[options.axes[0]!.rail, v1]]);
       if (second) volts.set(options.axes[1]!.rail, v2);
       const moved: Design = { ...design, rails: design.rails.map((r) => (volts.has(r.name) ? { ...r, volts: volts.get(r.name)! } : r)) };
-      const r = checkMargins(moved, { requiredMargin: options.requiredMargin, scenario, headroom: false, graph });
+      const r = checkMargins(moved, { requiredMargin: options.requiredMargin, scenario, headroom: false, graph, refine: false });
       if (!('verdict' in r)) return { pass: false, failures: 1, weakest: undefined };
       const failures = r.nets.filter((n) => n.status === 'fail').length + r.latches.filter((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined)).length;
       return { pass: r.verdict === 'pass', failures, weakest: r.nets[0]?.name };

@@ -24,7 +24,7 @@ export interface TuneCandidate {
   /** The weakest slack of the nets the stage touches (its own, and those feeding its inputs): smallest margin less the required one (volts; ≥ 0 passes). */
   slack: number;
   weakestNet: string | undefined;
-  verdict: 'pass' | 'fail';
+  verdict: CheckResult['verdict'];
   /** The stage's drive margin (volts): its ON grid must reach the cathode. */
   driveMargin: number | undefined;
   /** The plate load's nominal power as a share of its rating (derated to 50 %: at most 0.5). */
@@ -71,7 +71,7 @@ export function tuneStage(design: Design, options: TuneOptions): TuneResult | { 
       ...design,
       parts: design.parts.map((q): Part => (q === load ? { ...q, ohms: l } : series.includes(q as Resistor) ? { ...(q as Resistor), ohms: s } : pulldowns.includes(q as Resistor) ? { ...(q as Resistor), ohms: p } : q)),
     };
-    const r = checkMargins(moved, { requiredMargin: options.requiredMargin, scenario: options.scenario, headroom: false });
+    const r = checkMargins(moved, { requiredMargin: options.requiredMargin, scenario: options.scenario, headroom: false, refine: false });
     const c = candidate(r, options.stage, touched, l, s, p, loadRail, load.watts);
     seen.set(key, c);
     return c;

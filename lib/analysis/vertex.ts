@@ -68,3 +68,49 @@ export function searchVertex(bands: readonly Band[], worst: 'min' | 'max', probe
   if (!here) return { nominal: at.value, worst: undefined, vertex, effects, corrections };
   return { nominal: at.value, worst: worstValue, vertex: worstVertex, effects, corrections };
 }
+
+/** Bands enumerated over every corner at most, after the vertex search: 2^5 = 32 solves of a local problem. */
+export const LOCAL_EXHAUSTIVE_BANDS = 5;
+
+/**
+ * The work of that enumeration per case, in solves times unknowns: a region of a few
+ * nodes enumerates `LOCAL_EXHAUSTIVE_BANDS` bands, a region of a wide fan-out (hundreds
+ * of grids) fewer, so that no case costs more than a few thousand node-solves.
+ */
+export const LOCAL_CORNER_WORK = 2_000;
+
+/** How many bands a region of `unknowns` unknowns enumerates (see `LOCAL_CORNER_WORK`). */
+export function localBands(unknowns: number): number {
+  return Math.max(0, Math.min(LOCAL_EXHAUSTIVE_BANDS, Math.floor(Math.log2(LOCAL_CORNER_WORK / Math.max(1, unknowns)))));
+}
+
+/**
+ * After the vertex search, every corner of the `maxBands` bands that move the judged
+ * voltage most (the rest stay at the vertex), in Gray-code order so that each solve starts from its neighbour: a voltage
+ * that is not monotone in its parameters (a grid that starts to conduct only when several
+ * parts move together) has its extreme at a corner the linearised vertex misses. Returns
+ * the vertex search's answer, or a corner more extreme than its vertex.
+ */
+export function searchAllCorners(bands: readonly Band[], worst: 'min' | 'max', found: VertexResult, value: (values: Float64Array) => number | undefined, maxBands = LOCAL_EXHAUSTIVE_BANDS): VertexResult {
+  if (found.worst === undefined) return found;
+  const sign = worst === 'min' ? -1 : 1;
+  const order = bands
+    .map((b, i) => ({ i, effect: Math.abs(found.effects[i]!), width: b.high - b.low }))
+    .filter((b) => b.width > 0)
+    .sort((a, b) => b.effect - a.effect)
+    .slice(0, maxBands)
+    .map((b) => b.i);
+  const values = Float64Array.from(found.vertex);
+  let best = found.worst;
+  let at = found.vertex;
+  for (let g = 1; g < 2 ** order.length; g++) {
+    const i = order[31 - Math.clz32(g & -g)]!;
+    values[i] = values[i] === bands[i]!.low ? bands[i]!.high : bands[i]!.low;
+    const v = value(values);
+    if (v !== undefined && sign * (v - best) > 0) {
+      best = v;
+      at = Float64Array.from(values);
+    }
+  }
+  return { ...found, worst: best, vertex: at };
+}

@@ -1,4 +1,6 @@
-import type { CheckResult, Cause, NetCheck } from '../analysis/check.js';
+import { latchSwitchingFails, type CheckResult, type Cause, type NetCheck } from '../analysis/check.js';
+import type { Witness } from '../analysis/cornerSearch.js';
+import type { LatchResult } from '../analysis/latchCheck.js';
 import { MAX_EXTRA_LOADS } from '../analysis/fanoutHeadroom.js';
 import { CUTOFF_FRACTION } from '../analysis/gridMargins.js';
 import type { MonteCarloResult } from '../analysis/monteCarlo.js';
@@ -15,7 +17,7 @@ import { append, lowest } from '../lists.js';
 export interface ReportJson {
   schema: 'tubemargin.report/1';
   title: string;
-  verdict: 'pass' | 'fail';
+  verdict: CheckResult['verdict'];
   requiredMargin: number;
   ageing: { scenario: string; summary: string };
   nets: {
@@ -35,13 +37,28 @@ export interface ReportJson {
     headroomWhy?: string;
     /** Each input the net feeds: its worst-case thresholds and the net's noise margins against them. */
     receivers: ({ section: string; stage: string } & Record<'vil' | 'vih' | 'marginHigh' | 'marginLow', number | null> & Partial<Record<'vilWhy' | 'vihWhy' | 'marginHighWhy' | 'marginLowWhy', string>>)[];
-    status: 'pass' | 'fail' | 'unchecked';
+    status: NetCheck['status'];
     reasons: string[];
+    /** What decided the status: bounds, corners (of the whole design), witness, undecided. */
+    basis: NetCheck['basis'];
+    /** For a net whose bound failed: the worst levels found at corners of the whole design, beside the bounds. */
+    found: { high: number | null; highWhy?: string; low: number | null; lowWhy?: string } | null;
+    foundWhy?: string;
+    /** A corner where the whole design fails this net: re-solve it with `solve --at`. */
+    witness: Witness | null;
+    witnessWhy?: string;
     causes: { parameter: string; kind: string; end: 'low' | 'high'; value: number; effectVolts: number }[];
   }[];
   latches: {
     nets: [string, string];
     holds: boolean;
+    /** How holds was decided: bounds, corners (of the whole design), witness (a corner where a state is lost), undecided. */
+    basis: LatchResult['basis'];
+    /** The corner where a state is lost, when basis is witness: re-solve it with `solve --at`. */
+    witness: Witness | null;
+    witnessWhy?: string;
+    /** Corners of the whole design solved to decide it. */
+    corners: number;
     snm: number | null;
     snmWhy?: string;
     snmNominal: number | null;
@@ -152,6 +169,9 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
         })),
         status: n.status,
         reasons: n.reasons,
+        basis: n.basis,
+        ...named('found', n.found && { ...figure('high', n.found.high, 'not searched: its high level passes by its bound, or it is never high'), ...figure('low', n.found.low, 'not searched: its low level passes by its bound, or it is never low') }, 'its bounds decided it: no corner of the whole design was searched'),
+        ...named('witness', n.witness, n.status === 'fail' ? 'the bound decided this failure (a grid, a gain or a loop that did not settle): no corner was searched' : 'no corner fails it'),
         causes: (n.weakest?.causes ?? []).filter((c) => Number.isFinite(c.value) && Number.isFinite(c.volts)).map((c) => ({ parameter: c.target, kind: c.kind, end: c.end, value: c.value, effectVolts: c.volts })),
       };
     }),
@@ -162,10 +182,13 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
       return {
         nets: l.nets,
         holds: l.holds,
+        basis: l.basis,
+        ...named('witness', l.witness, l.basis === 'undecided' ? 'no corner searched loses a state, but not every corner was solved' : 'it holds: no corner loses a state'),
+        corners: l.corners,
         ...figure('snm', l.snm.worst, 'no butterfly could be drawn at the worst corners: a transfer curve of the latch did not solve'),
         ...figure('snmNominal', l.snm.nominal, 'no butterfly could be drawn at nominal values: a transfer curve of the latch did not solve'),
-        switches,
-        ...(switches === null ? { switchesWhy: l.inputs.length === 0 ? 'it has no set or reset input' : 'none of its inputs could be judged (see each input\'s note)' } : {}),
+        switches: l.holds ? switches : null,
+        ...(!l.holds ? { switchesWhy: 'it is not shown to hold a state: there is no switching to judge' } : switches === null ? { switchesWhy: l.inputs.length === 0 ? 'it has no set or reset input' : 'none of its inputs could be judged (see each input\'s note)' } : {}),
         ...figure('triggerMargin', switches && margins.length ? lowest(margins) : undefined, switches === null ? 'no input to judge' : switches ? 'no input gave a trigger margin' : 'an input does not switch it: there is no margin to give'),
         inputs: l.inputs.map((i) => ({
           input: i.input,
@@ -325,8 +348,27 @@ function indented(text: string, first: string, rest: string): string[] {
   return wrap(text, REPORT_COLUMNS - first.length, rest.slice(first.length)).map((line) => first + line);
 }
 
-function statusText(n: NetCheck): string {
-  return n.status === 'fail' ? 'FAIL' : n.status === 'pass' ? 'ok' : 'unchecked';
+/** A net's status in words (`short`: for the table's last column, four characters at most). */
+function statusText(n: NetCheck, short = false): string {
+  if (n.status === 'pass') return n.basis === 'corners' ? (short ? 'ok*' : 'ok by corners') : 'ok';
+  return n.status === 'fail' ? 'FAIL' : n.status === 'undecided' ? (short ? '?' : 'UNDECIDED') : 'unchecked';
+}
+
+/**
+ * A witness in a few lines: its states and contacts, the values that matter most (every
+ * value is in `--json`), and how to re-solve it.
+ */
+export function renderWitness(w: Witness, source: string, atNet: string): string[] {
+  const states = Object.entries(w.states).map(([net, s]) => `${net} ${s}`).join(', ');
+  const closed = Object.entries(w.positions).filter(([, p]) => p === 'closed').map(([k]) => k);
+  const key = (w.key ?? []).filter((k) => w.values[k] !== undefined);
+  const rest = Object.keys(w.values).length - key.length;
+  const values = key.map((k) => `${k} ${Number(w.values[k]!.toPrecision(4))}`).join(', ');
+  const lines = indented(`witness: ${states || 'no latch state asked'}; ${closed.length ? `closed: ${closed.join(', ')}` : 'every contact at rest'}`, '   ', '     ');
+  if (key.length > 0) lines.push(...indented(`at ${values}${rest > 0 ? `, and ${rest} more part${rest === 1 ? '' : 's'} at the ends of their bands (every value in --json)` : ''}`, '     ', '       '));
+  else if (rest > 0) lines.push(...indented(`at the ${rest} values in --json`, '     ', '       '));
+  lines.push(...indented(`re-solve it: tubemargin check ${source} --json > c.json; tubemargin solve ${source} --at c.json --at-net ${atNet}`, '     ', '       '));
+  return lines;
 }
 
 /**
@@ -338,19 +380,27 @@ function statusText(n: NetCheck): string {
 export function renderCheck(design: Design, r: CheckResult, source: string, mc?: MonteCarloResult, shrunk?: ShrinkResult): string {
   const out: string[] = [];
   const failing = r.nets.filter((n) => n.status === 'fail');
-  const badLatches = r.latches.filter((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined));
+  const badLatches = r.latches.filter((l) => l.basis === 'witness' || latchSwitchingFails(l));
+  const undecidedLatches = r.latches.filter((l) => l.basis === 'undecided');
   out.push(`${design.title || '(untitled design)'} — ${source}`);
   const latchWords = r.latches.length > 0 ? ' and every latch holds and switches' : '';
   const failWords = [`${failing.length} of ${r.nets.length} nets`, ...(r.latches.length > 0 ? [`${badLatches.length} of ${r.latches.length} latches`] : [])].join(' and ');
   const overRating = r.ratings?.ok === false ? ' Parts run over their ratings (below).' : '';
+  const undecidedNets = r.nets.filter((n) => n.status === 'undecided');
+  const undecidedWords = [
+    ...(undecidedNets.length > 0 ? [` ${undecidedNets.length} of ${r.nets.length} nets could be shown neither to keep their margins nor to fail them`] : []),
+    ...(undecidedLatches.length > 0 ? [` ${undecidedLatches.length} of ${r.latches.length} latches could be shown neither to hold nor to lose a state`] : []),
+  ].join(';');
   const verdict =
     r.nets.length === 0 && r.latches.length === 0
       ? `${r.verdict === 'pass' ? 'PASS' : 'FAIL'}: no logic net to judge (no section drives a net); ${r.verdict === 'pass' ? 'every part keeps within its rating.' : 'parts run over their ratings (below).'}`
       : r.verdict === 'pass'
       ? `PASS: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}).`
-      : failing.length + badLatches.length === 0 && r.settled && r.ratings?.ok === false
-        ? `FAIL: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}), but parts run over their ratings (below).`
-        : `FAIL: ${failWords} fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.${overRating}`;
+      : r.verdict === 'undecided'
+        ? `UNDECIDED: nothing is shown to fail in worst case (${r.scenario.name}: ${r.scenario.summary}), but${undecidedWords}: it may fail (below).`
+        : failing.length + badLatches.length === 0 && r.settled && r.ratings?.ok === false
+          ? `FAIL: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}), but parts run over their ratings (below).`
+          : `FAIL: ${failWords} fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.${overRating}${undecidedWords ? `${undecidedWords} (below).` : ''}`;
   append(out, wrap(verdict, REPORT_COLUMNS));
   if (!r.settled) append(out, wrap(`The worst-case levels around a loop did not settle in ${r.rounds} rounds.`, REPORT_COLUMNS));
   out.push('');
@@ -367,31 +417,35 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
         v(n.margin.low),
         v(n.cutoffMargin?.volts),
         n.headroom === undefined ? '—' : n.headroom >= MAX_EXTRA_LOADS ? `${MAX_EXTRA_LOADS}+` : String(n.headroom),
-        `${marginBar(n, r.requiredMargin)} ${statusText(n)}`,
+        `${marginBar(n, r.requiredMargin)} ${statusText(n, true)}`,
       ]),
       [16, 3, 3, 7, 7, 7, 7, 6, 4],
     ));
   out.push('  (volts, worst case; drv: sections driving it, "in" for an input; more:');
   out.push('  extra standard loads it can take; the bar: the smaller noise margin, with');
-  out.push('  the required one at its middle; drive margins are in --json)');
+  out.push('  the required one at its middle; drive margins are in --json; status: ok*');
+  out.push('  passes by every corner of the whole design where its bound did not; ?');
+  out.push('  undecided, it may fail)');
   if (r.latches.length > 0) {
     out.push('');
     out.push(`Latches (${r.latches.length})`);
     append(out, table(
         ['  latch', 'holds', 'SNM', 'input', 'switches', 'trigger'],
         r.latches.flatMap((l) => {
-          const head = ['  ' + l.nets.join(' ↔ '), l.holds ? 'yes' : 'NO', `${v(l.snm.worst)}`];
+          const head = ['  ' + l.nets.join(' ↔ '), l.holds ? 'yes' : l.basis === 'undecided' ? '?' : 'NO', `${v(l.snm.worst)}`];
           if (l.inputs.length === 0) return [[...head, '—', '—', '—']];
+          // A latch not shown to hold has no switching to judge.
           return l.inputs.map((i, k) => [
             ...(k === 0 ? head : ['', '', '']),
             i.input,
-            i.note !== undefined ? 'never set' : i.switches ? 'yes' : 'NO',
-            i.note !== undefined ? '—' : v(i.triggerMargin),
+            !l.holds ? '—' : i.note !== undefined ? 'never set' : i.switches ? 'yes' : 'NO',
+            !l.holds || i.note !== undefined ? '—' : v(i.triggerMargin),
           ]);
         }),
         [26, 5, 6, 14, 9],
       ));
-    out.push('  (SNM and trigger margin in volts, worst case)');
+    out.push('  (SNM and trigger margin in volts, worst case; holds: both states exist at');
+    out.push('  every corner; "?": neither that nor a corner losing a state was shown)');
   }
   // The three weakest, one per class: nets alike are named with the first.
   const judged = r.nets.filter((n) => n.status !== 'unchecked');
@@ -408,7 +462,9 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
           : n.weakest?.what === 'low'
             ? `worst low ${v(n.low?.worst)} V, NM_L ${v(n.margin.low)} V`
             : `worst high ${v(n.high?.worst)} V, NM_H ${v(n.margin.high)} V`);
-      append(out, indented(`${k + 1}. ${n.name} (${statusText(n)}): ${summary}`, '', '     '));
+      append(out, indented(`${k + 1}. ${n.name} (${statusText(n)}): ${n.note ?? summary}`, '', '     '));
+      // A latch's witness is printed once, with the latch.
+      if (n.witness && (n.witness.level || n.witness.grid)) append(out, renderWitness(n.witness, source, n.name));
       const alike = judged.filter((m) => m.classId === n.classId && m !== n).map((m) => m.name);
       if (alike.length > 0) out.push(`   alike: ${cutList(alike, REPORT_COLUMNS - 10)}`);
       for (const reason of n.reasons.slice(1)) append(out, indented(`also: ${reason}`, '   ', '     '));
@@ -418,10 +474,13 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
       }
     });
   }
-  for (const l of badLatches) {
+  // Latches that fail, that are undecided, and those the corners showed to hold where the bounds could not.
+  for (const l of r.latches.filter((l) => badLatches.includes(l) || l.basis !== 'bounds')) {
     out.push('');
-    append(out, indented(`Latch ${l.nets.join(' ↔ ')}: ${l.holds ? 'holds' : 'does NOT hold'}${l.reasons.length ? ': ' + l.reasons.join('; ') : ''}`, '', '  '));
-    for (const i of l.inputs) if (!i.switches && i.note === undefined) append(out, indented(`${i.input} at its weakest asserted level ${v(i.asserted)} V does not switch it`, '  ', '    '));
+    const head = l.basis === 'undecided' ? 'UNDECIDED' : l.holds ? 'holds' : 'does NOT hold';
+    append(out, indented(`Latch ${l.nets.join(' ↔ ')}: ${head}${l.reasons.length ? ': ' + l.reasons.join('; ') : ''}`, '', '  '));
+    if (l.witness) append(out, renderWitness(l.witness, source, l.nets[0]));
+    if (l.holds) for (const i of l.inputs) if (!i.switches && i.note === undefined) append(out, indented(`${i.input} at its weakest asserted level ${v(i.asserted)} V does not switch it`, '  ', '    '));
   }
   if (r.ratings) out.push('', ...renderRatings(r.ratings));
   if (mc) out.push('', ...renderSamples(mc, r.requiredMargin));

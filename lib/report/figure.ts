@@ -16,7 +16,7 @@ export function figure<K extends string>(key: K, value: number | undefined, why:
   return { [key]: null, [`${key}${WHY_SUFFIX}`]: value === undefined ? why : `${why} (the computation gave no finite number)` } as unknown as Figure<K>;
 }
 
-/** A name (or other text) for a JSON report, or null with the reason it has none. */
-export function named<K extends string>(key: K, value: string | undefined, why: string): Record<K, string | null> & Partial<Record<`${K}Why`, string>> {
-  return (value === undefined ? { [key]: null, [`${key}${WHY_SUFFIX}`]: why } : { [key]: value }) as unknown as Record<K, string | null> & Partial<Record<`${K}Why`, string>>;
+/** A name (or other text, or an object) for a JSON report, or null with the reason it has none. */
+export function named<K extends string, T = string>(key: K, value: T | undefined, why: string): Record<K, T | null> & Partial<Record<`${K}Why`, string>> {
+  return (value === undefined ? { [key]: null, [`${key}${WHY_SUFFIX}`]: why } : { [key]: value }) as unknown as Record<K, T | null> & Partial<Record<`${K}Why`, string>>;
 }

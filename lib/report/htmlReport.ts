@@ -51,14 +51,17 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
   const plot = async (caption: string, spec: Parameters<typeof svgOf>[0]) => `<figure class="plot">${await svgOf(spec)}<figcaption>${e(caption)}</figcaption></figure>`;
 
   const failing = check.nets.filter((n) => n.status === 'fail').length;
+  const undecided = check.nets.filter((n) => n.status === 'undecided').length + check.latches.filter((l) => l.basis === 'undecided').length;
   const verdict =
     check.nets.length === 0
       ? `${check.verdict === 'pass' ? 'PASS' : 'FAIL'}: no logic net to judge; ${check.verdict === 'pass' ? 'every part keeps within its rating.' : 'parts run over their ratings.'}`
       : check.verdict === 'pass'
       ? `PASS: every net keeps ${v(check.requiredMargin)} V of margin${check.latches.length ? ' and every latch holds and switches' : ''} in worst case.`
+      : check.verdict === 'undecided'
+        ? `UNDECIDED: nothing is shown to fail in worst case, but ${undecided} net${undecided === 1 ? '' : 's'} or latches could be shown neither to pass nor to fail: it may fail.`
       : failing === 0 && check.ratings?.ok === false
         ? `FAIL: every net keeps ${v(check.requiredMargin)} V of margin in worst case, but parts run over their ratings.`
-        : `FAIL: ${failing} of ${check.nets.length} nets fail in worst case; required margin ${v(check.requiredMargin)} V.`;
+        : `FAIL: ${failing} of ${check.nets.length} nets fail in worst case; required margin ${v(check.requiredMargin)} V.${undecided ? ` ${undecided} more could be shown neither to pass nor to fail.` : ''}`;
   const weakestNet = check.nets[0];
   const weakestLine = weakestNet ? `<p class="weakest">The weakest net is <strong id="weakest">${e(weakestNet.name)}</strong>${weakestNet.reasons[0] ? `: ${e(weakestNet.reasons[0])}` : ''}.</p>` : '';
   parts.push(`<header><h1>${e(title)}</h1><p class="source">${e(source)} · ageing: ${e(check.scenario.name)} (${e(check.scenario.summary)})</p><p id="verdict" class="verdict ${check.verdict}">${e(verdict)}</p>${weakestLine}</header>`);
@@ -104,10 +107,10 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
     const plots: string[] = [];
     for (const l of kinds.slice(0, MAX_PLOTS)) {
       const spec = butterflyChart(l);
-      if (spec) plots.push(await plot(`${l.holds ? 'Holds' : 'Does NOT hold'}; the shaded squares are the largest in each lobe (nominal).`, spec));
+      if (spec) plots.push(await plot(`${l.holds ? 'Holds' : l.basis === 'undecided' ? 'Undecided' : 'Does NOT hold'}; the shaded squares are the largest in each lobe (nominal).`, spec));
     }
     const rows = check.latches
-      .map((l) => `<tr class="${l.holds ? 'pass' : 'fail'}"><td>${e(l.nets.join(' ↔ '))}</td><td>${l.holds ? 'yes' : 'NO'}</td><td>${v(l.snm.worst)}</td><td>${l.inputs.map((i) => `${e(i.input)}: ${i.note ? e(i.note) : i.switches ? `switches, margin ${v(i.triggerMargin)} V` : 'does NOT switch'}`).join('<br>')}</td></tr>`)
+      .map((l) => `<tr class="${l.holds ? 'pass' : 'fail'}"><td>${e(l.nets.join(' ↔ '))}</td><td>${l.holds ? 'yes' : l.basis === 'undecided' ? '?' : 'NO'}</td><td>${v(l.snm.worst)}</td><td>${l.holds ? l.inputs.map((i) => `${e(i.input)}: ${i.note ? e(i.note) : i.switches ? `switches, margin ${v(i.triggerMargin)} V` : 'does NOT switch'}`).join('<br>') : '—'}</td></tr>`)
       .join('');
     parts.push(`<section id="latches"><h2>Latches</h2><div class="plots">${plots.join('')}</div><table><thead><tr><th>latch</th><th>holds</th><th>SNM (worst)</th><th>set and reset inputs</th></tr></thead><tbody>${rows}</tbody></table></section>`);
   }
@@ -263,7 +266,7 @@ const STYLE = `
 body{margin:0 auto;max-width:1100px;padding:24px 32px;background:#fbf8f1;color:${PALETTE.ink};font:15px/1.5 Georgia,serif}
 h1{font-size:28px;margin:0 0 4px}h2{font-size:20px;border-bottom:2px solid #e6e2d8;padding-bottom:4px;margin-top:32px}
 .source{color:#6b6f80;margin:0}.verdict{font-size:20px;font-weight:bold;padding:10px 14px;border-left:8px solid}
-.verdict.pass{border-color:${PALETTE.pass};background:#e4f1ec}.verdict.fail{border-color:${PALETTE.fail};background:#f6e3e5}
+.verdict.pass{border-color:${PALETTE.pass};background:#e4f1ec}.verdict.fail{border-color:${PALETTE.fail};background:#f6e3e5}.verdict.undecided{border-color:#b08a00;background:#f7f0d9}
 .caution{border:3px double ${PALETTE.fail};padding:4px 16px;background:#fff4e0}.caution h2{border:none;color:${PALETTE.fail}}
 table{border-collapse:collapse;margin:12px 0;font-size:13px}th,td{padding:3px 10px;text-align:left;border-bottom:1px solid #e6e2d8;vertical-align:top}
 tr.fail td{color:${PALETTE.fail}}th{background:#efeadf}

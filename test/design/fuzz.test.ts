@@ -125,7 +125,7 @@ describe('fuzzing the front end with mutants of the nets/ files', () => {
         const r = loadMutant(which, mutations);
         if (!r.ok || !r.design || r.design.parts.length > 300) return;
         const result = checkMargins(r.design);
-        if ('verdict' in result) expect(['pass', 'fail']).toContain(result.verdict);
+        if ('verdict' in result) expect(['pass', 'fail', 'undecided']).toContain(result.verdict);
         else for (const d of result.diagnostics) expect(KNOWN.has(d.code)).toBe(true);
         checked++;
       }),

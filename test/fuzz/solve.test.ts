@@ -15,10 +15,10 @@ import { sampleDesigns } from '../../tools/fuzzDesigns.js';
  * `npm run fuzz` runs the same mix at 100,000 runs.
  */
 describe('odd but valid designs solve within the invariants of issue 14', () => {
-  it('8,500 tiny designs (one chain, gate, latch, fan-out, array or handful of raw parts each) solve through the library with finite, explained, in-span results', () => {
+  it('8,800 tiny designs (one chain, gate, latch, fan-out, array or handful of raw parts each) solve through the library with finite, explained, in-span results', () => {
     const t = newTally();
-    for (const fd of sampleDesigns(142_026, 8500, BATCH.tiny)) record(t, runLibrary(fd, 'solve'), fd.text, { op: 'solve' });
-    expect(t.runs).toBe(8500);
+    for (const fd of sampleDesigns(142_026, 8800, BATCH.tiny)) record(t, runLibrary(fd, 'solve'), fd.text, { op: 'solve' });
+    expect(t.runs).toBe(8800);
     // Most designs must load and be answered, or the fuzzer is only exercising the diagnostics.
     expect(t.byOutcome.rejected).toBeLessThan(t.runs * 0.2);
     expect(failureLines(t)).toEqual([]);

@@ -1,0 +1,347 @@
+import type { Design } from '../design/model.js';
+import type { StageGraph } from '../graph/stageGraph.js';
+import { logicThreshold, type StateHint } from '../solve/operatingPoint.js';
+import type { AgeingScenario } from './ageing.js';
+import type { NetCheck, ReceiverMargin } from './check.js';
+import { CornerBudget, cornersOf, decideLatch, positionsOf, searchCorners, WholeDesign, WITNESS_KEY, witnessName, type LatchState, type Witness } from './cornerSearch.js';
+import type { LatchResult } from './latchCheck.js';
+import type { LevelChain } from './levelChain.js';
+import { receiverThresholds, sweepCurve, sweepRange } from './receiverThresholds.js';
+import { unityGainPoints } from './unityGain.js';
+import { cutoffGrid } from './gridMargins.js';
+import { P } from '../models/tubeEquations.js';
+
+/**
+ * Bracketed verdicts for nets: a net whose bound misses the requirement is put to the
+ * corners of the whole design, in every state of its contacts and latches in which it
+ * takes the level in question. The worst corner found is a witness when the level fails
+ * there, judged against the receiving stage's thresholds worked out at the same values
+ * (its transfer curve swept with every part at the witness's value and the nets around
+ * it at their voltages there). When the search was exhaustive and the level found clears
+ * the worst-case thresholds by the required margin, the net passes: no corner is worse.
+ * Otherwise it is undecided.
+ */
+
+/** Whole-design states tried at most per net (contact positions times latch states); past it the bound's verdict stands as undecided. */
+export const MAX_WHOLE_STATES = 32;
+
+/** One state of the whole design: contacts closed besides those the design closes, and the latch hints. */
+export interface WholeState {
+  close: string[];
+  hints: StateHint[];
+}
+
+/**
+ * The states a net's level is looked for in: every contact at rest and each one closed
+ * alone, times every combination of latch states (each latch's first net high or low;
+ * with more than three latches, all low and all high). Undefined past `MAX_WHOLE_STATES`.
+ */
+export function wholeStates(design: Design, graph: StageGraph): WholeState[] | undefined {
+  const contacts = [[], ...design.parts.filter((p) => p.type === 'switch' && !p.closed).map((p) => [p.name])];
+  const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => l.nets[0]!);
+  const patterns = latches.length <= 3 ? Array.from({ length: 2 ** latches.length }, (_, m) => latches.map((net, i) => ({ net, high: (m & (1 << i)) !== 0 }))) : [false, true].map((high) => latches.map((net) => ({ net, high })));
+  if (contacts.length * patterns.length > MAX_WHOLE_STATES) return undefined;
+  return contacts.flatMap((close) => patterns.map((hints) => ({ close, hints })));
+}
+
+/** What refining one net gives: a new status and basis, the worst levels found, and a witness for a failure. */
+export interface NetRefinement {
+  status: 'pass' | 'fail' | 'undecided';
+  basis: 'corners' | 'witness' | 'undecided';
+  found: { high: number | undefined; low: number | undefined };
+  witness: Witness | undefined;
+  reason: string;
+  corners: number;
+}
+
+/** Shared by the refinements of one check: the whole design per contact set, and the corners left to spend. */
+export class Refiner {
+  private readonly wholes = new Map<string, WholeDesign>();
+  private readonly starts = new Map<string, Float64Array | null>();
+  readonly states: WholeState[] | undefined;
+
+  constructor(
+    readonly design: Design,
+    readonly graph: StageGraph,
+    readonly scenario: AgeingScenario,
+    readonly chain: LevelChain,
+    readonly budget: CornerBudget,
+  ) {
+    this.states = wholeStates(design, graph);
+  }
+
+  whole(close: readonly string[]): WholeDesign {
+    const key = close.join('\u0000');
+    let w = this.wholes.get(key);
+    if (!w) this.wholes.set(key, (w = new WholeDesign(this.design, this.graph, this.scenario, new Set(close))));
+    return w;
+  }
+
+  /** The state's solution at nominal values (undefined where it does not exist). */
+  start(s: WholeState): Float64Array | undefined {
+    const key = `${s.close.join('\u0000')}|${s.hints.map((h) => `${h.net}=${h.high}`).join(',')}`;
+    if (!this.starts.has(key)) this.starts.set(key, this.whole(s.close).state(s.hints) ?? null);
+    return this.starts.get(key) ?? undefined;
+  }
+
+  /** The latches of a state, as the corner search keeps them. */
+  latchStates(w: WholeDesign, s: WholeState): LatchState[] {
+    return this.graph.loops
+      .filter((l) => l.kind === 'latch')
+      .map((l) => {
+        const [a, b] = l.nets as [string, string];
+        const aHigh = s.hints.find((h) => h.net === a)?.high ?? false;
+        return { high: w.terminal(aHigh ? a : b), low: w.terminal(aHigh ? b : a), threshold: logicThreshold(this.design, a) };
+      });
+  }
+
+  /** The worst corner over the states in which `net` reads `high` (or low) at nominal values, for an objective of terminals. */
+  private worstOver(net: string, high: boolean, threshold: number, terms: (w: WholeDesign) => { terminal: number; weight: number }[], worst: 'min' | 'max'): { found: Found | undefined; corners: number; exhaustive: boolean } | undefined {
+    let found: Found | undefined;
+    let corners = 0;
+    let exhaustive = true;
+    for (const s of this.states!) {
+      const w = this.whole(s.close);
+      // What a search would cost is known before any solve: past the budget, nothing is solved.
+      if (!this.budget.affords(w, cornersOf(w))) return undefined;
+      const start = this.start(s);
+      const t = w.problem.circuit.terminalOf.get(net);
+      if (!start || t === undefined) continue;
+      // The state's own nominal solution says whether the net takes this level in it.
+      const nominal = t >= 0 ? start[t]! : w.problem.circuit.fixedVolts[-1 - t]!;
+      if (nominal > threshold !== high) continue;
+      const a = searchCorners(w, { terms: terms(w), worst, start, latches: this.latchStates(w, s), cap: this.budget.left });
+      corners += a.corners;
+      this.budget.spend(a.work);
+      exhaustive &&= a.exhaustive && !a.lost;
+      if (a.worst !== undefined && (!found || (worst === 'min' ? a.worst < found.value : a.worst > found.value))) found = { value: a.worst, values: a.at!, ranked: a.ranked, state: s, w, start };
+    }
+    return { found, corners, exhaustive };
+  }
+
+  /**
+   * A corner of the level's worst corner `f` with the receiving stage's own parameters
+   * moved to the corner its worst-case threshold was found at (VIH's for a high level,
+   * VIL's for a low one); undefined where that stage has no such corner or the state is lost.
+   */
+  private withReceiverCorner(f: Found, driving: string, rc: ReceiverMargin, high: boolean): Found | undefined {
+    const receiver = this.graph.nets.find((x) => x.name === driving)?.receivers.find((r) => r.section === rc.section);
+    const stage = this.chain.nets.get(rc.stage);
+    const t = receiver && stage && receiverThresholds(this.chain, driving, receiver);
+    if (!t || !stage) return undefined;
+    const corner = high ? t.corners.late : t.corners.early;
+    const values = Float64Array.from(f.values);
+    const index = new Map(f.w.parameters.map((p, i) => [`${p.kind}|${p.target}`, i]));
+    stage.parameters.forEach((p, i) => {
+      const j = p.kind === 'level' ? undefined : index.get(`${p.kind}|${p.target}`);
+      if (j !== undefined) values[j] = corner[i]!;
+    });
+    const w = f.w;
+    if (!w.problem.solveFrom(values, f.start)) return undefined;
+    const latches = this.latchStates(w, f.state);
+    if (!latches.every((l) => w.problem.volts(l.high) > l.threshold && w.problem.volts(l.low) <= l.threshold)) return undefined;
+    return { ...f, values, value: w.problem.volts(w.terminal(driving)) };
+  }
+
+  /**
+   * Refines a failing net whose failure is in its levels or its drivers' cutoff: each
+   * question the bound fails is searched for over the states it arises in. Undefined when
+   * the net's states cannot be listed or the budget is spent (its bound's verdict then
+   * stands, undecided).
+   */
+  refine(n: NetCheck, required: number, questions: RefineQuestion[]): NetRefinement | undefined {
+    if (!this.states || (this.wholes.size === 0 && !this.budget.couldAfford(this.design))) return undefined;
+    const threshold = n.thresholdVolts;
+    const found: NetRefinement['found'] = { high: undefined, low: undefined };
+    let corners = 0;
+    let exhaustive = true;
+    let witness: Witness | undefined;
+    let cleared = true;
+    const vihBound = n.receivers.reduce<number | undefined>((m, r) => (r.vihMax === undefined ? m : Math.max(m ?? -Infinity, r.vihMax)), undefined);
+    const vilBound = n.receivers.reduce<number | undefined>((m, r) => (r.vilMin === undefined ? m : Math.min(m ?? Infinity, r.vilMin)), undefined);
+    const witnessAt = (f: Found, shows: string, level?: Witness['level']): Witness => ({
+      values: f.w.named(f.values),
+      key: f.ranked.slice(0, WITNESS_KEY).map((i) => witnessName(f.w.parameters[i]!)),
+      positions: positionsOf(this.design, new Set(f.state.close)),
+      states: Object.fromEntries(f.state.hints.map((h) => [h.net, h.high ? 'high' : 'low'])),
+      shows,
+      ...(level ? { level } : {}),
+    });
+    for (const q of questions) {
+      if (q === 'cutoff') {
+        // Each driver's grid against its cathode, pushed up while the net is high; cut off or not at that corner.
+        for (const section of this.chain.nets.get(n.name)?.drivers ?? []) {
+          const tube = (w: WholeDesign) => w.problem.circuit.design.parts.findIndex((p) => p.name === section);
+          const terms = (w: WholeDesign) => {
+            const c = w.problem.circuit;
+            const t = c.tubePart.indexOf(tube(w));
+            return [
+              { terminal: c.tG[t]!, weight: 1 },
+              { terminal: c.tK[t]!, weight: -1 },
+            ];
+          };
+          const r = this.worstOver(n.name, true, threshold, terms, 'max');
+          if (!r) return undefined;
+          corners += r.corners;
+          exhaustive &&= r.exhaustive;
+          if (!r.found) continue;
+          const f = r.found;
+          f.w.problem.solveFrom(f.values, f.start);
+          const c = f.w.problem.circuit;
+          const t = c.tubePart.indexOf(tube(f.w));
+          const v = (k: number) => f.w.problem.volts(k);
+          const vk = v(c.tK[t]!);
+          const cutoff = cutoffGrid(c.tubeParams, t * P.size, v(c.tA[t]!) - vk, c.hasScreen[t] ? v(c.tS[t]!) - vk : 0);
+          if (cutoff === undefined) continue;
+          if (f.value > cutoff) {
+            witness ??= { ...witnessAt(f, `${section} is not cut off while ${n.name} is high: its grid sits at ${f.value.toFixed(3)} V, above its cutoff at ${cutoff.toFixed(3)} V`), grid: { section, vgk: f.value, cutoff } };
+          }
+        }
+        continue;
+      }
+      const high = q === 'high';
+      const r = this.worstOver(n.name, high, threshold, (w) => [{ terminal: w.terminal(n.name), weight: 1 }], high ? 'min' : 'max');
+      if (!r) return undefined;
+      corners += r.corners;
+      exhaustive &&= r.exhaustive;
+      const f = r.found;
+      if (!f) {
+        cleared = false;
+        continue;
+      }
+      found[q] = f.value;
+      // Judged against each receiving stage's thresholds at the same values: first at the
+      // level's worst corner, then with the receiving stage's own parts moved to the corner
+      // that makes its threshold worst (the two need not coincide: a weak driver and a
+      // strong receiver are different sections).
+      let failure: { at: Found; volts: number; against: NonNullable<Witness['level']>['against'] } | undefined;
+      if (high ? f.value <= threshold : f.value >= threshold) failure = { at: f, volts: f.value, against: { what: 'logic threshold', volts: threshold } };
+      for (const rc of failure ? [] : n.receivers) {
+        const candidates = [f, this.withReceiverCorner(f, n.name, rc, high)].filter((c): c is Found => c !== undefined);
+        for (const c of candidates) {
+          if (!c.w.problem.solveFrom(c.values, c.start)) continue;
+          const volts = c.w.problem.volts(c.w.terminal(n.name));
+          const t = thresholdsAt(this.chain, c.w.named(c.values), (net) => c.w.problem.volts(c.w.terminal(net)), n.name, rc);
+          if (t && (high ? volts - t.vih : t.vil - volts) < required) {
+            failure = { at: c, volts, against: { what: high ? 'VIH' : 'VIL', volts: high ? t.vih : t.vil, stage: rc.stage } };
+            break;
+          }
+        }
+        if (failure) break;
+      }
+      if (failure) {
+        const { at, volts, against } = failure;
+        const shows = `${n.name} ${q} at ${volts.toFixed(3)} V against ${against.what === 'logic threshold' ? 'its logic threshold' : `${against.stage}'s ${against.what}`} ${against.volts.toFixed(3)} V${against.what === 'logic threshold' ? '' : `: a noise margin below the required ${required.toFixed(2)} V`}`;
+        witness ??= witnessAt(at, shows, { net: n.name, state: q, volts, against, required: against.what === 'logic threshold' ? 0 : required });
+      }
+      // Cleared for good only against the worst-case thresholds, which bound those of every corner.
+      cleared &&= high ? f.value > threshold && (vihBound === undefined || f.value - vihBound >= required) : f.value < threshold && (vilBound === undefined || vilBound - f.value >= required);
+    }
+    if (witness) return { status: 'fail', basis: 'witness', found, witness, corners, reason: `at the corner of its witness, ${witness.shows}` };
+    if (exhaustive && cleared) {
+      return { status: 'pass', basis: 'corners', found, witness: undefined, corners, reason: `every corner of the whole design keeps it within its limits (${corners.toLocaleString('en')} corners solved); the chained bounds alone could not show it` };
+    }
+    return { status: 'undecided', basis: 'undecided', found, witness: undefined, corners, reason: `no corner searched fails it (${corners.toLocaleString('en')} solved), but its bound does${exhaustive ? ', and the level found does not clear the worst-case thresholds' : ', and not every corner was solved'}` };
+  }
+}
+
+/** What a net's bound can fail on that the corners of the whole design can decide. */
+export type RefineQuestion = 'high' | 'low' | 'cutoff';
+
+interface Found {
+  value: number;
+  values: Float64Array;
+  /** The parameters the search enumerated, most effect first. */
+  ranked: number[];
+  state: WholeState;
+  w: WholeDesign;
+  start: Float64Array;
+}
+
+/**
+ * The unity-gain thresholds of receiving stage `r` seen from `driving`, at a witness: every
+ * parameter of the stage's region at the witness's value, the nets around it at their
+ * voltages there, the driving net swept.
+ */
+export function thresholdsAt(chain: LevelChain, values: Readonly<Record<string, number>>, voltsAt: (net: string) => number, driving: string, r: ReceiverMargin): { vil: number; vih: number } | undefined {
+  const stage = chain.nets.get(r.stage);
+  if (!stage || stage.polarity !== 'inverting') return undefined;
+  const boundary = stage.region.boundaries.indexOf(driving);
+  if (boundary < 0) return undefined;
+  const { problem } = chain.problem(stage.region, undefined, stage.kind);
+  const local = Float64Array.from(stage.parameters, (p) => (p.kind === 'level' ? voltsAt(p.target) : (values[witnessName(p)] ?? p.nominal)));
+  const swept = stage.parameters.length - stage.region.boundaries.length + boundary;
+  const { from, to } = sweepRange(chain, driving);
+  const curve = sweepCurve(problem, local, swept, from, to);
+  const points = curve && unityGainPoints(curve.vin, curve.vout);
+  return points && { vil: points.vil, vih: points.vih };
+}
+
+/** What `check` knows when it refines its verdicts. */
+export interface RefineContext {
+  design: Design;
+  graph: StageGraph;
+  scenario: AgeingScenario;
+  chain: LevelChain;
+  required: number;
+  /** Receiving stages whose gain never reaches 1, by stage, with the nets that drive them. */
+  flatInputs: ReadonlyMap<string, string[]>;
+  /** The budget (`CORNER_WORK` when absent). */
+  cornerWork?: number | undefined;
+}
+
+/**
+ * The last pass of `check`: every latch its bounds cannot show to hold, and every net its
+ * bound fails on something corners can decide, put to the corners of the whole design
+ * within one `CornerBudget`. Latches first (a net of a latch that cannot hold takes the
+ * latch's witness), then nets; each gets its basis, its witness or its pass by corners, or
+ * is left undecided, in place.
+ */
+export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: LatchResult[]): void {
+  const { design, graph, scenario, chain, required, flatInputs } = ctx;
+  const budget = new CornerBudget(ctx.cornerWork);
+  let whole: WholeDesign | undefined;
+  for (const l of latches) {
+    if (l.basis !== 'undecided') continue;
+    if (!whole && !budget.couldAfford(design, 2)) {
+      l.reasons = [`undecided: the worst-case bounds cannot show that it holds (the bounds: ${l.reasons.join('; ')}), and the design is too large to search the corners of the whole of it within this check's budget`];
+      continue;
+    }
+    decideLatch((whole ??= new WholeDesign(design, graph, scenario)), l, budget);
+  }
+  // A net whose bound fails on its levels is put to the corners of the whole design.
+  let refiner: Refiner | undefined;
+  const lostLatch = new Map(latches.filter((l) => l.basis === 'witness').flatMap((l) => l.nets.map((net) => [net, l] as const)));
+  for (const n of nets) {
+    if (n.status !== 'fail') continue;
+    const latch = lostLatch.get(n.name);
+    if (latch) {
+      // Its levels mean nothing where its latch loses a state: the latch's witness is the net's.
+      n.basis = 'witness';
+      n.witness = latch.witness;
+      n.reasons = [`its latch ${latch.nets.join(' ↔ ')} cannot hold a state (its witness is with the latch, below)`, ...n.reasons.map((x) => `the bound: ${x}`)];
+      continue;
+    }
+    if (!n.refinable) continue;
+    refiner ??= new Refiner(design, graph, scenario, chain, budget);
+    const r = refiner.refine(n, required, n.refinable);
+    // A gain that never reaches 1 is the stage's own failure, which no corner of its levels clears.
+    if (flatInputs.has(n.name) && r?.status !== 'fail') {
+      n.found = r?.found;
+      n.reasons.unshift(r ? `no corner of the whole design fails its levels (${r.corners.toLocaleString('en')} solved), but its gain fails by the bound` : 'its gain fails by the bound (its levels were not searched: the budget for corners is spent)');
+      continue;
+    }
+    if (!r) {
+      n.status = 'undecided';
+      n.basis = 'undecided';
+      n.reasons.unshift(refiner.states ? "undecided: the bound fails, and this check's budget for corners of the whole design is spent" : 'undecided: the bound fails, and the design has too many contact and latch states to search its corners');
+      continue;
+    }
+    n.status = r.status;
+    n.basis = r.basis;
+    n.found = r.found;
+    n.witness = r.witness;
+    n.reasons = r.status === 'pass' ? [] : [r.status === 'undecided' ? `undecided: ${r.reason}` : r.reason, ...n.reasons.map((x) => `the bound: ${x}`)];
+    if (r.status === 'pass') n.note = r.reason;
+  }
+}

@@ -1,0 +1,90 @@
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { familyDesigns } from '../../bench/family.js';
+import { familyDesign, familyTruth } from '../../bench/familyOracle.js';
+import { loadDesign, reproduceWitness, type Design } from '../../lib/index.js';
+import { renderCheck } from '../../lib/report/checkReport.js';
+import { ROOT, checkOf, demoDesigns, design, memoryLoader, netsFiles } from '../helpers.js';
+
+/** A demo design or example, its includes read from nets/. */
+const demo = (file: string): Design => {
+  const text = readFileSync(join(ROOT, file), 'utf8');
+  return loadDesign(file, text, { loader: memoryLoader({ ...netsFiles(), [file]: text }) }).design!;
+};
+
+describe('latch verdicts decided on the whole design', () => {
+  it('says a latch holds when both states exist at every corner, though its chained bounds collapse', () => {
+    // Family latch 1: its bounds collapse (worst high below worst low), but solved whole at
+    // all 1,024 corners and 30 points inside the box both states exist (the exhaustive oracle).
+    const fd = familyDesigns(2026015, 1)[0]!;
+    const d = familyDesign(fd);
+    expect(familyTruth(fd, d, 30).latchHolds).toBe(true);
+    const r = checkOf(d);
+    const q = r.nets.find((n) => n.name === 'q')!;
+    expect(q.high!.worst).toBeLessThan(q.low!.worst);
+    expect(r.latches[0]!.holds).toBe(true);
+    expect(r.latches[0]!.basis).toBe('corners');
+    expect(r.latches[0]!.reasons[0]).toMatch(/^it holds: both states exist at every corner of the whole design \(2,048 corners solved\)/);
+    // Its nets still fail their margins, in words that do not say it cannot hold.
+    const text = renderCheck(d, r, 'latch.tube');
+    expect(text).not.toContain('cannot hold');
+    expect(text).toMatch(/\n {2}nq ↔ q +yes /);
+  });
+
+  it('says a latch cannot hold only with a witness, which the whole design reproduces (common practice, no source: pull-downs to 0 V cannot cut the OFF grid off)', () => {
+    const d = demo('docs/examples/grounded-latch.tube');
+    const r = checkOf(d);
+    const l = r.latches[0]!;
+    expect(l.holds).toBe(false);
+    expect(l.basis).toBe('witness');
+    expect(l.witness!.shows).toContain('does not exist even at nominal values');
+    expect(reproduceWitness(d, l.witness!).reproduced).toBe(true);
+    for (const n of r.nets) expect(n.witness).toBe(l.witness);
+  });
+
+  it('shows no switching for a latch that cannot hold, where its inputs once read "switches yes"', () => {
+    const d = design(`rail bp = 24 V
+defaults { tube = "6AU6" }
+button SET (set, bp)
+resistor RS (set, gnd) 100 k
+stage q  { load 33 k to bp; screen bp; input nq series 220 k pulldown 220 k to gnd }
+stage nq { load 33 k to bp; screen bp; input q  series 220 k pulldown 220 k to gnd; input set series 220 k pulldown 220 k to gnd }`);
+    const r = checkOf(d);
+    expect(r.latches[0]!.holds).toBe(false);
+    const text = renderCheck(d, r, 'x.tube');
+    const row = text.split('\n').find((line) => /^ {2}nq ↔ q /.test(line))!;
+    expect(row).toMatch(/NO +\S+ +set +— +—/);
+  });
+});
+
+describe('witnesses of net failures', () => {
+  it('reproduce on every demo design: the whole design solved at each witness shows the failure it names', () => {
+    let seen = 0;
+    for (const file of demoDesigns()) {
+      const d = demo(file);
+      const r = checkOf(d);
+      for (const w of [...r.nets.map((n) => n.witness), ...r.latches.map((l) => l.witness)]) {
+        if (!w) continue;
+        seen++;
+        const again = reproduceWitness(d, w);
+        expect(again.reproduced, `${file}: ${w.shows}: ${again.seen}`).toBe(true);
+      }
+      // Every FAIL decided by corners has one.
+      for (const n of r.nets) if (n.basis === 'witness') expect(n.witness, `${file}: ${n.name}`).toBeDefined();
+    }
+    expect(seen).toBeGreaterThan(0);
+  });
+
+  it('name the parts that matter most, and every value absolutely (ohms, volts, emission factors)', () => {
+    const d = demo('nets/nor-adder.tube');
+    const x2 = checkOf(d).nets.find((n) => n.name === 'x2')!;
+    expect(x2.status).toBe('fail');
+    const w = x2.witness!;
+    expect(w.key[0]).toMatch(/^x2\.v[12]$/);
+    expect(w.values[w.key[0]!]).toBeCloseTo(0.75, 6); // LOGIC_PENTODE's 25 % spread, weak end
+    expect(w.values.bp).toBeCloseTo(24 * 1.05, 6);
+    expect(w.level!.against.what).toBe('VIL');
+    expect(w.level!.against.volts - w.level!.volts).toBeLessThan(1.5);
+  });
+});
