@@ -99,6 +99,7 @@ const checkTable = [
   `- At 2,000 stages: check ${at2000.checkMs.toFixed(0)} ms (goal ≤ 250 ms), **${(at2000.checkMs / at2000.solveMs).toFixed(1)}×** one nominal full-circuit solve (goal ≤ 10×); with reading the text and building the stage graph, as the command does, ${(at2000.checkMs + at2000.frontMs).toFixed(0)} ms.`,
   `- Scaling exponent of check, ${checkRows[0]!.stages} → ${checkRows[2]!.stages} stages: ${checkExp.toFixed(2)}; local solves stay at ${checkRows.map((r) => r.localSolves).join(', ')}: one per class of identical nets, not per net.`,
   `- Ratings and budgets (issue #7), which the \`check\` command adds, need a nominal full solve for rail currents and resistor powers: ${at2000.withRatingsMs.toFixed(0)} ms in all at 2,000 stages.`,
+  `- Verdicts: ${checkRows.map((r) => r.verdict).join(', ')}. The register's bounds fail (its latches' bounds collapse); a search of the corners of the whole register does not fit the check's budget (\`CORNER_WORK\`), so what corners could decide is UNDECIDED and what they cannot fails by its bound, at no cost beyond the bounds.`,
 ].join('\n');
 process.stdout.write(checkTable + '\n');
 
