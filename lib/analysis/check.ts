@@ -119,6 +119,12 @@ export interface CheckResult {
   stageKinds: StageKind[];
   /** Ratings and budgets, when asked for. */
   ratings: Ratings | undefined;
+  /**
+   * Library types run outside the plate voltages their fit is trusted over, at the
+   * nominal operating point (every latch's first net low), as `solve` warns of them:
+   * the verdict rests on a model used there. Worked out with the ratings; empty without.
+   */
+  modelRange: string[];
 }
 
 /** A kind of receiving stage as seen from the net that drives it: its transfer curves and the levels around them. */
@@ -220,9 +226,12 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   const refine = options.refine ?? true;
   if (refine) refineVerdicts({ design, graph, scenario, chain, required, flatInputs, cornerWork: options.cornerWork }, nets, latches);
   let ratings: Ratings | undefined;
+  let modelRange: string[] = [];
   if (options.ratings) {
     const op = solveOperatingPoint(design, { graph });
     ratings = ratingsOf(design, chain, 'nodes' in op && op.converged ? op : undefined);
+    // The same warning `solve` gives, from the same nominal solution.
+    if ('nodes' in op) modelRange = op.diagnostics.filter((d) => d.code === 'outside-trusted-range').map((d) => d.message);
   }
   // Without refinement a latch its bounds cannot show to hold fails, as its bounds say.
   const failed = nets.some((n) => n.status === 'fail') || latches.some((l) => (refine ? l.basis === 'witness' : !l.holds) || latchSwitchingFails(l)) || !chain.settled || ratings?.ok === false;
@@ -240,6 +249,7 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
     localSolves: chain.solves,
     stageKinds: [...kinds.values()],
     ratings,
+    modelRange,
   };
 }
 

@@ -93,6 +93,8 @@ export interface ReportJson {
   /** Present with `--shrink`. */
   shrink?: { found: boolean; seed: number; runs: number; shrinks: number; deviations: { parameter: string; kind: string; deviation: number; value: number }[]; failing: string[] };
   definitions: Record<string, string>;
+  /** Library types run outside their trusted plate voltages at the nominal operating point: the verdict rests on a model used there. */
+  modelRange: string[];
   cautions: string[];
 }
 
@@ -202,6 +204,7 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
       };
     }),
     definitions: DEFINITIONS,
+    modelRange: r.modelRange,
     cautions: safetyCautions(design),
   };
   if (r.ratings) {
@@ -402,6 +405,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
           ? `FAIL: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}), but parts run over their ratings (below).`
           : `FAIL: ${failWords} fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.${overRating}${undecidedWords ? `${undecidedWords} (below).` : ''}`;
   append(out, wrap(verdict, REPORT_COLUMNS));
+  for (const m of r.modelRange) append(out, wrap(`The verdict rests on a model used outside its trusted range: ${m}; fit the type to bench readings of your own tubes at these voltages (tubemargin fit).`, REPORT_COLUMNS));
   if (!r.settled) append(out, wrap(`The worst-case levels around a loop did not settle in ${r.rounds} rounds.`, REPORT_COLUMNS));
   out.push('');
   out.push(`Nets, weakest first (${r.nets.length})`);

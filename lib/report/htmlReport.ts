@@ -64,7 +64,7 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
         : `FAIL: ${failing} of ${check.nets.length} nets fail in worst case; required margin ${v(check.requiredMargin)} V.${undecided ? ` ${undecided} more could be shown neither to pass nor to fail.` : ''}`;
   const weakestNet = check.nets[0];
   const weakestLine = weakestNet ? `<p class="weakest">The weakest net is <strong id="weakest">${e(weakestNet.name)}</strong>${weakestNet.reasons[0] ? `: ${e(weakestNet.reasons[0])}` : ''}.</p>` : '';
-  parts.push(`<header><h1>${e(title)}</h1><p class="source">${e(source)} · ageing: ${e(check.scenario.name)} (${e(check.scenario.summary)})</p><p id="verdict" class="verdict ${check.verdict}">${e(verdict)}</p>${weakestLine}</header>`);
+  parts.push(`<header><h1>${e(title)}</h1><p class="source">${e(source)} · ageing: ${e(check.scenario.name)} (${e(check.scenario.summary)})</p><p id="verdict" class="verdict ${check.verdict}">${e(verdict)}</p>${check.modelRange.map((m) => `<p class="model-range">${e(`The verdict rests on a model used outside its trusted range: ${m}.`)}</p>`).join('')}${weakestLine}</header>`);
 
   const cautions = safetyCautions(design);
   if (cautions.length > 0) parts.push(`<section id="caution" class="caution"><h2>Caution: high voltage</h2>${cautions.map((c) => `<p>${e(c)}</p>`).join('')}</section>`);

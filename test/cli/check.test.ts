@@ -88,6 +88,16 @@ describe('tubemargin check', () => {
     expect((await check(false, { FORCE_COLOR: '1' })).out).toMatch(ANSI);
   });
 
+  it('says when the verdict rests on a model used outside its trusted range, as solve does (the library entry\'s own range: 12AU7 fitted 50–300 V)', async () => {
+    const r = await run(['check', 'nets/crate-tally.tube']);
+    expect(r.out.replace(/\s+/g, ' ')).toMatch(/The verdict rests on a model used outside its trusted range: SURPLUS_TRIODE \(12AU7\) is trusted from 50 to 300 V on the plate; 80 conducting sections here run at 16\.\d–26\.\d V/);
+    const json = JSON.parse((await run(['check', 'nets/crate-tally.tube', '--json'])).out);
+    expect(json.modelRange).toHaveLength(1);
+    expect(json.modelRange[0]).toContain('SURPLUS_TRIODE (12AU7) is trusted from 50 to 300 V');
+    // A design within its types' ranges says nothing of it.
+    expect(JSON.parse((await run(['check', 'nets/irrigation-sequencer.tube', '--json'])).out).modelRange).toEqual([]);
+  });
+
   it('shows the safety cautions for a design whose rails exceed 60 V', async () => {
     const r = await run(['check', 'nets/crate-tally.tube']);
     expect(r.out).toContain('CAUTION: hv (up to 158 V), neg (down to −78.8 V), LINE_A (up to 150 V), LINE_B');
