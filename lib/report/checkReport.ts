@@ -257,6 +257,19 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
 
 const v = (x: number | undefined) => (x === undefined || !Number.isFinite(x) ? '—' : x.toFixed(2));
 
+/**
+ * A margin against the required one, with the digits needed so that it is never rounded
+ * onto the other side of it (1.496 against 1.50 is not printed "1.50").
+ */
+export function marginText(x: number | undefined, required: number): string {
+  if (x === undefined || !Number.isFinite(x)) return '—';
+  for (const digits of [2, 3, 4]) {
+    const shown = Number(x.toFixed(digits));
+    if ((shown >= required) === (x >= required)) return x.toFixed(digits);
+  }
+  return x.toFixed(5);
+}
+
 /** How a cause reads: "x2.v2 emission 75 % of nominal (low end): up 2.10 V". */
 export function describeCause(c: Cause): string {
   const what: Record<Cause['kind'], string> = {
@@ -417,8 +430,8 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
         String(n.fanout),
         v(n.high?.worst),
         v(n.low?.worst),
-        v(n.margin.high),
-        v(n.margin.low),
+        marginText(n.margin.high, r.requiredMargin),
+        marginText(n.margin.low, r.requiredMargin),
         v(n.cutoffMargin?.volts),
         n.headroom === undefined ? '—' : n.headroom >= MAX_EXTRA_LOADS ? `${MAX_EXTRA_LOADS}+` : String(n.headroom),
         `${marginBar(n, r.requiredMargin)} ${statusText(n, true)}`,
