@@ -70,3 +70,22 @@ export function fileLoader(io: CliIo): SourceLoader {
     }
   };
 }
+
+/**
+ * An io that keeps in memory what a command prints and writes, for tests and the fuzz
+ * harness: files it wrote are read back first, the rest through `read`. Read the
+ * captured text from `captured` after the run.
+ */
+export function memoryIo(read: (path: string) => string, terminal: { tty?: boolean; env?: Record<string, string> } = {}): { io: CliIo; captured: { out: string; err: string; written: Record<string, string> } } {
+  const captured = { out: '', err: '', written: {} as Record<string, string> };
+  const io: CliIo = {
+    stdout: (t) => void (captured.out += t),
+    stderr: (t) => void (captured.err += t),
+    readFile: (p) => captured.written[p] ?? read(p),
+    writeFile: (p, text) => void (captured.written[p] = text),
+    stdoutIsTTY: terminal.tty ?? false,
+    stderrIsTTY: false,
+    env: terminal.env ?? {},
+  };
+  return { io, captured };
+}

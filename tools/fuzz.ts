@@ -23,7 +23,7 @@ import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { runCli } from '../cli/main.js';
-import type { CliIo } from '../cli/io.js';
+import { memoryIo } from '../cli/io.js';
 import {
   checkMargins,
   CORNER_WORK,
@@ -367,24 +367,13 @@ export type Runner = (args: string[], files: Record<string, string>) => Promise<
 
 /** `runCli` in this process, over in-memory files. */
 export const inProcess: Runner = async (args, files) => {
-  let out = '';
-  let err = '';
-  const written: Record<string, string> = {};
-  const io: CliIo = {
-    stdout: (t) => void (out += t),
-    stderr: (t) => void (err += t),
-    readFile: (p) => {
-      const text = written[p] ?? files[p];
-      if (text === undefined) throw new Error('no such file');
-      return text;
-    },
-    writeFile: (p, text) => void (written[p] = text),
-    stdoutIsTTY: false,
-    stderrIsTTY: false,
-    env: {},
-  };
+  const { io, captured } = memoryIo((p) => {
+    const text = files[p];
+    if (text === undefined) throw new Error('no such file');
+    return text;
+  });
   const code = await runCli(args, io);
-  return { code, out, err, written };
+  return { code, ...captured };
 };
 
 /** The repository's root: the folder above this file (or above dist/tools/) that holds package.json. */

@@ -191,12 +191,7 @@ export function searchCorners(w: WholeDesign, q: CornerQuestion): CornerAnswer {
   const bands = w.parameters;
   const sign = q.worst === 'min' ? -1 : 1;
   const value = () => q.terms.reduce((s, t) => s + t.weight * problem.volts(t.terminal), 0);
-  const inState = () =>
-    q.latches.every((l) => {
-      const hi = problem.volts(l.high);
-      const lo = problem.volts(l.low);
-      return hi > l.threshold && lo <= l.threshold && hi - lo >= 0.2 * l.threshold;
-    });
+  const inState = () => q.latches.every((l) => latchHeld(problem.volts(l.high), problem.volts(l.low), l.threshold));
   const solveAt = (values: Float64Array, from: Float64Array): boolean => problem.solveFrom(values, from) && inState();
   if (!solveAt(w.nominal, q.start)) return { worst: undefined, at: undefined, lost: Float64Array.from(w.nominal), exhaustive: false, corners: 1, ranked: [], work: work() };
   // Rank by the linearised effect across each band.
@@ -285,10 +280,16 @@ export function latchCorners(w: WholeDesign, latch: [string, string], cap = Infi
 
 /** In a full solution, `high` reads high, `low` reads low, and the two are apart by a tenth of the swing (not the metastable point). */
 export function stateHolds(design: Design, nodes: ReadonlyMap<string, number>, high: string, low: string): boolean {
-  const threshold = logicThreshold(design, high);
-  const hi = nodes.get(high)!;
-  const lo = nodes.get(low)!;
-  return hi > threshold && lo <= threshold && hi - lo >= 0.2 * threshold;
+  return latchHeld(nodes.get(high)!, nodes.get(low)!, logicThreshold(design, high));
+}
+
+/**
+ * A latch's state, from its two nets' voltages: the high one above the logic threshold,
+ * the low one at or below it, and the two apart by a tenth of the swing (twice the
+ * threshold), as `solve` tells a state from the metastable point.
+ */
+export function latchHeld(high: number, low: number, threshold: number): boolean {
+  return high > threshold && low <= threshold && high - low >= 0.2 * threshold;
 }
 
 /**
@@ -331,10 +332,6 @@ export class CornerBudget {
   }
 }
 
-/** Corners a search of `w` solves: 2 to the number of its toleranced parameters, at most 2^`EXHAUSTIVE_PARAMETERS`. */
-export function cornersOf(w: WholeDesign): number {
-  return w.corners;
-}
 
 /** Every contact's position in a witness: as the design sets it, and those in `close` closed. */
 export function positionsOf(design: Design, close: ReadonlySet<string>): Record<string, 'closed' | 'open'> {
@@ -352,7 +349,7 @@ export function positionsOf(design: Design, close: ReadonlySet<string>): Record<
  */
 export function decideLatch(w: WholeDesign, l: LatchResult, budget: CornerBudget): void {
   const bounds = l.reasons.length > 0 ? ` (the bounds: ${l.reasons.join('; ')})` : '';
-  if (!budget.affords(w, 2 * cornersOf(w))) {
+  if (!budget.affords(w, 2 * w.corners)) {
     l.reasons = [`undecided: the worst-case bounds cannot show that it holds${bounds}, and this check's budget for corners of the whole design is spent`];
     return;
   }

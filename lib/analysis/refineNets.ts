@@ -3,7 +3,7 @@ import type { StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold, type StateHint } from '../solve/operatingPoint.js';
 import type { AgeingScenario } from './ageing.js';
 import type { NetCheck, ReceiverMargin } from './check.js';
-import { CornerBudget, cornersOf, decideLatch, positionsOf, searchCorners, WholeDesign, WITNESS_KEY, witnessName, type LatchState, type Witness } from './cornerSearch.js';
+import { CornerBudget, decideLatch, latchHeld, positionsOf, searchCorners, WholeDesign, WITNESS_KEY, witnessName, type LatchState, type Witness } from './cornerSearch.js';
 import type { LatchResult } from './latchCheck.js';
 import type { LevelChain } from './levelChain.js';
 import { receiverThresholds, sweepCurve, sweepRange } from './receiverThresholds.js';
@@ -103,7 +103,7 @@ export class Refiner {
     for (const s of this.states!) {
       const w = this.whole(s.close);
       // What a search would cost is known before any solve: past the budget, nothing is solved.
-      if (!this.budget.affords(w, cornersOf(w))) return undefined;
+      if (!this.budget.affords(w, w.corners)) return undefined;
       const start = this.start(s);
       const t = w.problem.circuit.terminalOf.get(net);
       if (!start || t === undefined) continue;
@@ -139,7 +139,7 @@ export class Refiner {
     const w = f.w;
     if (!w.problem.solveFrom(values, f.start)) return undefined;
     const latches = this.latchStates(w, f.state);
-    if (!latches.every((l) => w.problem.volts(l.high) > l.threshold && w.problem.volts(l.low) <= l.threshold)) return undefined;
+    if (!latches.every((l) => latchHeld(w.problem.volts(l.high), w.problem.volts(l.low), l.threshold))) return undefined;
     return { ...f, values, value: w.problem.volts(w.terminal(driving)) };
   }
 
