@@ -21,7 +21,10 @@ import type { FamilyDesign, FamilyState } from './family.js';
  * box and at `interior` random points inside it (a divider both loads the plate that
  * drives it and drives a grid, so a level's extreme need not sit at a corner). A net's true
  * worst high is the lowest it reads over every point of the states its logic says it is
- * high in, its true worst low the highest over those it is low in; a latch holds when both of its
+ * high in, its true worst low the highest over those it is low in. From each level's
+ * worst point a coordinate search then walks an even grid of every band in turn (a
+ * level's extreme can sit inside a band, where random points seldom fall: a rail that
+ * raises a plate's level also drives its grid harder); a latch holds when both of its
  * states exist at every point (the state asked for is where the solve settles, the two
  * nets apart by at least a tenth of the swing).
  */
@@ -44,7 +47,7 @@ export function familyDesign(fd: FamilyDesign): Design {
   return loaded.design;
 }
 
-export function familyTruth(fd: FamilyDesign, design: Design, interior: number, seed = 1): FamilyTruth {
+export function familyTruth(fd: FamilyDesign, design: Design, interior: number, seed = 1, grid = { steps: 24, rounds: 3 }): FamilyTruth {
   const graph = buildStageGraph(design);
   const parameters = designParameters(design);
   const points: Map<string, number>[] = [...corners(parameters)];
@@ -62,21 +65,50 @@ export function familyTruth(fd: FamilyDesign, design: Design, interior: number, 
       lost ??= { state: state.label, values: new Map(parameters.map((p) => [p.id, p.nominal])) };
       continue;
     }
-    for (const values of points) {
+    // A latch is solved from its hint at every point, so that a state that no longer
+    // exists is found lost; a design without loops has one solution, found from nominal.
+    const solveAt = (values: Map<string, number>): OperatingPoint | undefined => {
       const varied = applyParameters(design, values);
-      // A latch is solved from its hint at every point, so that a state that no longer
-      // exists is found lost; a design without loops has one solution, found from nominal.
       const op = solveOperatingPoint(varied.design, { graph, close, variation: varied.variation, ...(fd.latch ? { hints: state.hints } : { start: nominal.x }) });
       solves++;
-      if (!('nodes' in op) || !op.converged || !exists(fd, design, state, op)) {
-        lost ??= { state: state.label, values };
-        continue;
-      }
+      return 'nodes' in op && op.converged && exists(fd, design, state, op) ? op : undefined;
+    };
+    // Each level's worst point so far, signed so that larger is worse.
+    const worst = new Map<string, { value: number; at: Map<string, number> }>();
+    const record = (op: OperatingPoint, values: Map<string, number>) => {
       for (const [name, t] of nets) {
         if (state.logic[name] === undefined) continue;
         const v = op.nodes.get(name)!;
         if (state.logic[name]) t.highMin = Math.min(t.highMin ?? Infinity, v);
         else t.lowMax = Math.max(t.lowMax ?? -Infinity, v);
+        const signed = state.logic[name] ? -v : v;
+        if (signed > (worst.get(name)?.value ?? -Infinity)) worst.set(name, { value: signed, at: values });
+      }
+    };
+    for (const values of points) {
+      const op = solveAt(values);
+      if (op) record(op, values);
+      else lost ??= { state: state.label, values };
+    }
+    // From each level's worst point, a coordinate search over an even grid of each band
+    // (the extreme of a level can sit inside a band, where random points seldom fall).
+    for (let [name, w] of lost ? [] : worst) {
+      for (let round = 0; round < grid.rounds; round++) {
+        const before = w.value;
+        for (const p of parameters.filter((q) => q.high > q.low)) {
+          for (let k = 0; k <= grid.steps; k++) {
+            const values = new Map(w.at).set(p.id, p.low + ((p.high - p.low) * k) / grid.steps);
+            const op = solveAt(values);
+            if (!op) {
+              lost ??= { state: state.label, values };
+              continue;
+            }
+            record(op, values);
+            const v = op.nodes.get(name)!;
+            if ((state.logic[name] ? -v : v) > w.value) w = { value: state.logic[name] ? -v : v, at: values };
+          }
+        }
+        if (w.value <= before) break;
       }
     }
   }

@@ -15,6 +15,7 @@ import type { LocalParameter } from './localProblem.js';
 import { receiverThresholds } from './receiverThresholds.js';
 import type { TransferCurve } from './staticNoiseMargin.js';
 import { highest, lowest } from '../lists.js';
+import { tightenLevels, type TightenSummary } from './wholeLevels.js';
 
 export interface CheckOptions {
   /** The noise margin every net must keep (volts); the design's own setting when absent. */
@@ -34,6 +35,12 @@ export interface CheckOptions {
    * what can fail but may fail what would pass.
    */
   refine?: boolean;
+  /**
+   * Narrow the chained levels with those of the whole design solved in every state, where
+   * the design is small enough (`tightenLevels`; as `refine` when absent). Off, the chain's
+   * bounds stand alone, and what they cannot decide goes to the corners.
+   */
+  narrow?: boolean;
   /** The work refinement may spend (`CORNER_WORK` when absent): a harness that runs thousands of checks sets less. */
   cornerWork?: number;
 }
@@ -115,6 +122,8 @@ export interface CheckResult {
   settled: boolean;
   rounds: number;
   localSolves: number;
+  /** Where the design was small enough to solve whole in every state: the levels narrowed that way (undefined: the chained bounds alone). */
+  wholeLevels: TightenSummary | undefined;
   /** One transfer curve per distinct kind of receiving stage, for drawing. */
   stageKinds: StageKind[];
   /** Ratings and budgets, when asked for. */
@@ -171,6 +180,9 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   }
   const chain = new LevelChain(design, graph, scenario);
   chain.run();
+  // A design small enough to solve whole has its levels narrowed to the whole design's, rails and parts correlated.
+  const refine = options.refine ?? true;
+  const whole = options.narrow ?? refine ? tightenLevels(design, graph, scenario, chain) : undefined;
 
   // Thresholds of every receiving input, and the design-wide extremes for nets with none.
   const thresholds = new Map<string, ReceiverMargin[]>();
@@ -223,8 +235,7 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   }
   const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => latchCheck(chain, l.nets as [string, string]));
   // What the bounds cannot decide goes to the corners of the whole design.
-  const refine = options.refine ?? true;
-  if (refine) refineVerdicts({ design, graph, scenario, chain, required, flatInputs, cornerWork: options.cornerWork }, nets, latches);
+  if (refine) refineVerdicts({ design, graph, scenario, chain, required, flatInputs, cornerWork: options.cornerWork, seeds: whole?.seeds }, nets, latches);
   let ratings: Ratings | undefined;
   let modelRange: string[] = [];
   if (options.ratings) {
@@ -247,6 +258,7 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
     settled: chain.settled,
     rounds: chain.rounds,
     localSolves: chain.solves,
+    wholeLevels: whole && { states: whole.states, corners: whole.corners, narrowed: whole.narrowed },
     stageKinds: [...kinds.values()],
     ratings,
     modelRange,

@@ -207,32 +207,54 @@ export function searchCorners(w: WholeDesign, q: CornerQuestion): CornerAnswer {
   for (const i of free) values[i] = bands[i]!.low;
   let worst: number | undefined;
   let at: Float64Array | undefined;
+  const { lost, solved, complete } = walkCorners(problem, values, free, bands, q.start, solveAt, () => q.cap !== undefined && work() > q.cap, () => {
+    const v = value();
+    if (worst === undefined || sign * (v - worst) > 0) {
+      worst = v;
+      at = Float64Array.from(values);
+    }
+  });
+  return { worst, at, lost, exhaustive: free.length === varied.length && complete, corners: solved, ranked: free, work: work() };
+}
+
+/**
+ * Every corner of the parameters `free` (the others as `values` holds them), in Gray-code
+ * order: each corner differs from the one before in one parameter and is solved from it
+ * (from `start` when that fails, before the state is called lost there). `visit` is called
+ * at each corner solved, with `values` holding it; `stop` is asked before each corner.
+ * `lost` is the first corner where the state was not found; `complete`, every corner solved.
+ */
+export function walkCorners(
+  problem: LocalProblem,
+  values: Float64Array,
+  free: readonly number[],
+  bands: readonly { low: number; high: number }[],
+  start: Float64Array,
+  solveAt: (values: Float64Array, from: Float64Array) => boolean,
+  stop: () => boolean,
+  visit: () => void,
+): { lost: Float64Array | undefined; solved: number; complete: boolean } {
   let lost: Float64Array | undefined;
-  let from = Float64Array.from(q.start);
+  let from = Float64Array.from(start);
   const count = 2 ** free.length;
   let solved = 0;
   for (let g = 0; g < count; g++) {
-    // A corner that will not converge can take a thousand iterations: the cap counts them.
-    if (q.cap !== undefined && work() > q.cap) break;
+    // A corner that will not converge can take a thousand iterations: `stop` counts them.
+    if (stop()) break;
     solved++;
     if (g > 0) {
       // Gray code: corner g differs from corner g − 1 in one parameter, the lowest set bit of g.
       const i = free[31 - Math.clz32(g & -g)]!;
       values[i] = values[i] === bands[i]!.low ? bands[i]!.high : bands[i]!.low;
     }
-    // From the neighbour first; from the nominal state if that fails, before calling the state lost.
-    if (!solveAt(values, from) && !solveAt(values, q.start)) {
+    if (!solveAt(values, from) && !solveAt(values, start)) {
       lost ??= Float64Array.from(values);
       continue;
     }
     from = Float64Array.from(problem.solution);
-    const v = value();
-    if (worst === undefined || sign * (v - worst) > 0) {
-      worst = v;
-      at = Float64Array.from(values);
-    }
+    visit();
   }
-  return { worst, at, lost, exhaustive: free.length === varied.length && solved === count, corners: solved, ranked: free, work: work() };
+  return { lost, solved, complete: solved === count };
 }
 
 /**
@@ -302,7 +324,7 @@ export function latchHeld(high: number, low: number, threshold: number): boolean
 export const CORNER_WORK = 1_200_000;
 
 /** Newton iterations a corner takes from its neighbour, as the budget plans (what it spends is what was taken). */
-const ITERATIONS_PER_CORNER = 3;
+export const ITERATIONS_PER_CORNER = 3;
 
 /** The work of one search of a whole design, estimated once per design. */
 const searchWork = new WeakMap<Design, number>();

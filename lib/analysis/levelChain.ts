@@ -247,6 +247,36 @@ export class LevelChain {
     return this.classes.get(net)!;
   }
 
+  /** Narrows one net's worst level to a tighter bound found on the whole design (`tightenLevels`); the net gets a record of its own. Returns 1. */
+  narrow(name: string, level: 'high' | 'low', worst: number): number {
+    const l = this.levels.get(name)!;
+    this.levels.set(name, { ...l, keys: undefined, ...(level === 'high' ? { highWorst: worst } : { lowWorst: worst }) });
+    return 1;
+  }
+
+  /**
+   * The classes again after `narrow`: nets of one class whose levels, or those of the nets
+   * around them, now differ go to classes of their own (the same partition refinement,
+   * started from the levels as well as the kinds). Results kept by class are made after this.
+   */
+  regroup(): void {
+    this.classes = this.partition((net) => {
+      const l = this.levels.get(net.name)!;
+      return `${this.classes.get(net.name)}|${l.canHigh}|${l.canLow}|${l.highWorst}|${l.lowWorst}`;
+    });
+  }
+
+  /** The coarsest partition of the nets, by name, that keeps nets of different `label` apart and, boundary by boundary, their boundaries in one class. */
+  private partition(label: (net: ChainNet) => string): Map<string, number> {
+    const index = new Map(this.order.map((name, i) => [name, i]));
+    const nets = this.order.map((name) => this.nets.get(name)!);
+    const found = coarsestPartition(
+      nets.map(label),
+      nets.map((net) => net.region.boundaries.map((b) => index.get(b) ?? -1)),
+    );
+    return new Map(this.order.map((name, i) => [name, found[i]!]));
+  }
+
   /**
    * Nets that are the same problem all the way out share one level record: the coarsest
    * partition in which nets of a class have regions of the same kind and, boundary by
@@ -256,13 +286,7 @@ export class LevelChain {
    * what one cell does. Returns the representatives in sweep order.
    */
   private shareLevels(): string[] {
-    const index = new Map(this.order.map((name, i) => [name, i]));
-    const nets = this.order.map((name) => this.nets.get(name)!);
-    const found = coarsestPartition(
-      nets.map((net) => `${net.kind}|${net.polarity}`),
-      nets.map((net) => net.region.boundaries.map((b) => index.get(b) ?? -1)),
-    );
-    const classOf = new Map(this.order.map((name, i) => [name, found[i]!]));
+    const classOf = this.partition((net) => `${net.kind}|${net.polarity}`);
     this.classes = classOf;
     const representatives: string[] = [];
     const byClass = new Map<number, string>();

@@ -44,6 +44,37 @@ export function wholeStates(design: Design, graph: StageGraph): WholeState[] | u
   return contacts.flatMap((close) => patterns.map((hints) => ({ close, hints })));
 }
 
+/**
+ * Each net's logic value in a state, from its inputs' levels at nominal values and the
+ * latches' hints: a plate net is high when none of its sections has a high input, a
+ * cathode net when one has. Undefined where the logic does not say (a section whose grid
+ * no logic net feeds, a net driven both ways).
+ */
+export function stateLogic(chain: LevelChain, state: WholeState, nominal: (net: string) => number | undefined): Map<string, boolean | undefined> {
+  const logic = new Map<string, boolean | undefined>();
+  for (const h of state.hints) logic.set(h.net, h.high);
+  for (const [name, net] of chain.nets) {
+    if (net.polarity !== 'input') continue;
+    const v = nominal(name);
+    logic.set(name, v === undefined ? undefined : v > logicThreshold(chain.design, name));
+  }
+  for (let changed = true; changed; ) {
+    changed = false;
+    for (const name of chain.order) {
+      if (logic.get(name) !== undefined) continue;
+      const net = chain.nets.get(name)!;
+      if (net.polarity !== 'inverting' && net.polarity !== 'follower') continue;
+      // A section conducts when one of its inputs is high; is off when all are low.
+      const conducts = net.feeders.map((fs) => (fs.some((f) => logic.get(f) === true) ? true : fs.length > 0 && fs.every((f) => logic.get(f) === false) ? false : undefined));
+      const any = conducts.some((c) => c === true) ? true : conducts.every((c) => c === false) ? false : undefined;
+      if (any === undefined) continue;
+      logic.set(name, net.polarity === 'inverting' ? !any : any);
+      changed = true;
+    }
+  }
+  return logic;
+}
+
 /** What refining one net gives: a new status and basis, the worst levels found, and a witness for a failure. */
 export interface NetRefinement {
   status: 'pass' | 'fail' | 'undecided';
@@ -66,8 +97,19 @@ export class Refiner {
     readonly scenario: AgeingScenario,
     readonly chain: LevelChain,
     readonly budget: CornerBudget,
+    /** Levels the whole design was already searched for in every state (`tightenLevels`): their worst point, taken as found. */
+    readonly seeds: ReadonlyMap<string, { high?: Seed; low?: Seed }> = new Map(),
   ) {
     this.states = wholeStates(design, graph);
+  }
+
+  /** Each net's logic value in state `s` of the whole design `w`, its inputs read at nominal values from `start`. */
+  logicOf(w: WholeDesign, s: WholeState, start: Float64Array): Map<string, boolean | undefined> {
+    const c = w.problem.circuit;
+    return stateLogic(this.chain, s, (net) => {
+      const t = c.terminalOf.get(net);
+      return t === undefined ? undefined : t >= 0 ? start[t]! : c.fixedVolts[-1 - t]!;
+    });
   }
 
   whole(close: readonly string[]): WholeDesign {
@@ -95,8 +137,14 @@ export class Refiner {
       });
   }
 
-  /** The worst corner over the states in which `net` reads `high` (or low) at nominal values, for an objective of terminals. */
-  private worstOver(net: string, high: boolean, threshold: number, terms: (w: WholeDesign) => { terminal: number; weight: number }[], worst: 'min' | 'max'): { found: Found | undefined; corners: number; exhaustive: boolean } | undefined {
+  /**
+   * The worst corner over the states in which `net`'s logic makes it `high` (or low), for
+   * an objective of terminals. A level of the net itself (`level`) already searched in
+   * every state by `tightenLevels` is taken from there.
+   */
+  private worstOver(net: string, high: boolean, terms: (w: WholeDesign) => { terminal: number; weight: number }[], worst: 'min' | 'max', level = false): { found: Found | undefined; corners: number; exhaustive: boolean } | undefined {
+    const seed = level ? this.seeds.get(net)?.[high ? 'high' : 'low'] : undefined;
+    if (seed) return { found: seed.found, corners: seed.corners, exhaustive: seed.exact };
     let found: Found | undefined;
     let corners = 0;
     let exhaustive = true;
@@ -107,9 +155,8 @@ export class Refiner {
       const start = this.start(s);
       const t = w.problem.circuit.terminalOf.get(net);
       if (!start || t === undefined) continue;
-      // The state's own nominal solution says whether the net takes this level in it.
-      const nominal = t >= 0 ? start[t]! : w.problem.circuit.fixedVolts[-1 - t]!;
-      if (nominal > threshold !== high) continue;
+      // The state's logic says whether the net takes this level in it (a failing net may read otherwise).
+      if (this.logicOf(w, s, start).get(net) !== high) continue;
       const a = searchCorners(w, { terms: terms(w), worst, start, latches: this.latchStates(w, s), cap: this.budget.left });
       corners += a.corners;
       this.budget.spend(a.work);
@@ -150,7 +197,8 @@ export class Refiner {
    * stands, undecided).
    */
   refine(n: NetCheck, required: number, questions: RefineQuestion[]): NetRefinement | undefined {
-    if (!this.states || (this.wholes.size === 0 && !this.budget.couldAfford(this.design))) return undefined;
+    const searches = questions.some((q) => q === 'cutoff' || !this.seeds.get(n.name)?.[q]);
+    if (searches && (!this.states || (this.wholes.size === 0 && !this.budget.couldAfford(this.design)))) return undefined;
     const threshold = n.thresholdVolts;
     const found: NetRefinement['found'] = { high: undefined, low: undefined };
     let corners = 0;
@@ -180,7 +228,7 @@ export class Refiner {
               { terminal: c.tK[t]!, weight: -1 },
             ];
           };
-          const r = this.worstOver(n.name, true, threshold, terms, 'max');
+          const r = this.worstOver(n.name, true, terms, 'max');
           if (!r) return undefined;
           corners += r.corners;
           exhaustive &&= r.exhaustive;
@@ -200,7 +248,7 @@ export class Refiner {
         continue;
       }
       const high = q === 'high';
-      const r = this.worstOver(n.name, high, threshold, (w) => [{ terminal: w.terminal(n.name), weight: 1 }], high ? 'min' : 'max');
+      const r = this.worstOver(n.name, high, (w) => [{ terminal: w.terminal(n.name), weight: 1 }], high ? 'min' : 'max', true);
       if (!r) return undefined;
       corners += r.corners;
       exhaustive &&= r.exhaustive;
@@ -248,7 +296,14 @@ export class Refiner {
 /** What a net's bound can fail on that the corners of the whole design can decide. */
 export type RefineQuestion = 'high' | 'low' | 'cutoff';
 
-interface Found {
+/** A level's worst point found by searching the whole design in every state, and whether every parameter was enumerated there (no allowance). */
+export interface Seed {
+  found: Found;
+  exact: boolean;
+  corners: number;
+}
+
+export interface Found {
   value: number;
   values: Float64Array;
   /** The parameters the search enumerated, most effect first. */
@@ -288,6 +343,8 @@ export interface RefineContext {
   flatInputs: ReadonlyMap<string, string[]>;
   /** The budget (`CORNER_WORK` when absent). */
   cornerWork?: number | undefined;
+  /** Levels already searched on the whole design (`tightenLevels`). */
+  seeds?: ReadonlyMap<string, { high?: Seed; low?: Seed }> | undefined;
 }
 
 /**
@@ -323,7 +380,7 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
       continue;
     }
     if (!n.refinable) continue;
-    refiner ??= new Refiner(design, graph, scenario, chain, budget);
+    refiner ??= new Refiner(design, graph, scenario, chain, budget, ctx.seeds);
     const r = refiner.refine(n, required, n.refinable);
     // A gain that never reaches 1 is the stage's own failure, which no corner of its levels clears.
     if (flatInputs.has(n.name) && r?.status !== 'fail') {

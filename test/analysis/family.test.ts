@@ -21,6 +21,16 @@ describe('check against exhaustive corners of a family of small random designs',
     expect(result.optimistic.map((l) => `${l.design} ${l.net} ${l.level}: reported ${l.reported}, truth ${l.truth}`)).toEqual([]);
   });
 
+  it('reports levels within 0.1 V of the truth at the median and 0.5 V at worst, over the designs that hold (the issue\'s figures)', () => {
+    expect(result.median).toBeLessThanOrEqual(0.1);
+    expect(result.worst).toBeLessThanOrEqual(0.5);
+  });
+
+  it('fails nothing by a bound alone: every FAIL carries a witness', () => {
+    expect(Object.keys(result.statuses).filter((k) => k.startsWith('fail/') && k !== 'fail/witness')).toEqual([]);
+    expect(result.statuses['fail/witness']).toBeGreaterThan(5);
+  });
+
   it('says a latch holds exactly when both of its states exist at every point, and decides every one', () => {
     expect(result.latches).toBe(4);
     expect(result.undecidedLatches).toEqual([]);

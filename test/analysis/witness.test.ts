@@ -20,7 +20,8 @@ describe('latch verdicts decided on the whole design', () => {
     const fd = familyDesigns(2026015, 1)[0]!;
     const d = familyDesign(fd);
     expect(familyTruth(fd, d, 30).latchHolds).toBe(true);
-    const r = checkOf(d);
+    // The chained bounds alone (not narrowed on the whole design) collapse; the corners decide.
+    const r = checkOf(d, { narrow: false });
     const q = r.nets.find((n) => n.name === 'q')!;
     expect(q.high!.worst).toBeLessThan(q.low!.worst);
     expect(r.latches[0]!.holds).toBe(true);
@@ -30,6 +31,14 @@ describe('latch verdicts decided on the whole design', () => {
     const text = renderCheck(d, r, 'latch.tube');
     expect(text).not.toContain('cannot hold');
     expect(text).toMatch(/\n {2}nq ↔ q +yes /);
+    // Narrowed on the whole design (the default), its levels no longer collapse, and are those of the truth.
+    const narrowed = checkOf(d).nets.find((n) => n.name === 'q')!;
+    const truth = familyTruth(fd, d, 30).nets.get('q')!;
+    expect(narrowed.high!.worst).toBeGreaterThan(narrowed.low!.worst);
+    expect(narrowed.high!.worst).toBeLessThanOrEqual(truth.highMin! + 1e-3);
+    expect(narrowed.low!.worst).toBeGreaterThanOrEqual(truth.lowMax! - 1e-3);
+    expect(narrowed.high!.worst).toBeGreaterThan(truth.highMin! - 0.1);
+    expect(narrowed.low!.worst).toBeLessThan(truth.lowMax! + 0.1);
   });
 
   it('says a latch cannot hold only with a witness, which the whole design reproduces (common practice, no source: pull-downs to 0 V cannot cut the OFF grid off)', () => {
