@@ -3,7 +3,7 @@ import type { StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold, type StateHint } from '../solve/operatingPoint.js';
 import type { AgeingScenario } from './ageing.js';
 import type { NetCheck, ReceiverMargin } from './check.js';
-import { CornerBudget, decideLatch, latchHeld, positionsOf, searchCorners, WholeDesign, WITNESS_KEY, witnessName, type LatchState, type Witness } from './cornerSearch.js';
+import { CornerBudget, decideLatch, INTERFACE_SUFFIX, latchHeld, positionsOf, searchCorners, WholeDesign, WITNESS_KEY, witnessName, type LatchState, type Witness } from './cornerSearch.js';
 import type { LatchResult } from './latchCheck.js';
 import type { LevelChain } from './levelChain.js';
 import { receiverThresholds, sweepCurve, sweepRange } from './receiverThresholds.js';
@@ -190,6 +190,91 @@ export class Refiner {
     return { ...f, values, value: w.problem.volts(w.terminal(driving)) };
   }
 
+  private witnessAt(f: Found, shows: string, level?: Witness['level']): Witness {
+    return {
+      values: f.w.named(f.values),
+      key: f.ranked.slice(0, WITNESS_KEY).map((i) => witnessName(f.w.parameters[i]!)),
+      positions: positionsOf(this.design, new Set(f.state.close)),
+      states: Object.fromEntries(f.state.hints.map((h) => [h.net, h.high ? 'high' : 'low'])),
+      shows,
+      ...(level ? { level } : {}),
+    };
+  }
+
+  /**
+   * A witness of net `n`'s level failing at the point `f` (its level there past the logic
+   * threshold, or short of the required margin against a receiving stage's VIH or VIL
+   * worked out at the same values); undefined where it does not fail there. Judged first
+   * at `f`, then with the receiving stage's own parts moved to the corner that makes its
+   * threshold worst (a weak driver and a strong receiver are different sections).
+   */
+  levelWitness(n: NetCheck, high: boolean, f: Found, required: number): Witness | undefined {
+    const threshold = n.thresholdVolts;
+    let failure: { at: Found; volts: number; against: NonNullable<Witness['level']>['against'] } | undefined;
+    if (high ? f.value <= threshold : f.value >= threshold) failure = { at: f, volts: f.value, against: { what: 'logic threshold', volts: threshold } };
+    for (const rc of failure ? [] : n.receivers) {
+      const candidates = [f, this.withReceiverCorner(f, n.name, rc, high)].filter((c): c is Found => c !== undefined);
+      for (const c of candidates) {
+        if (!c.w.problem.solveFrom(c.values, c.start)) continue;
+        const volts = c.w.problem.volts(c.w.terminal(n.name));
+        const t = thresholdsAt(this.chain, c.w.named(c.values), (net) => c.w.problem.volts(c.w.terminal(net)), n.name, rc);
+        if (t && (high ? volts - t.vih : t.vil - volts) < required) {
+          failure = { at: c, volts, against: { what: high ? 'VIH' : 'VIL', volts: high ? t.vih : t.vil, stage: rc.stage } };
+          break;
+        }
+      }
+      if (failure) break;
+    }
+    if (!failure) return undefined;
+    const { at, volts, against } = failure;
+    const q = high ? 'high' : 'low';
+    const shows = `${n.name} ${q} at ${volts.toFixed(3)} V against ${against.what === 'logic threshold' ? 'its logic threshold' : `${against.stage}'s ${against.what}`} ${against.volts.toFixed(3)} V${against.what === 'logic threshold' ? '' : `: a noise margin below the required ${required.toFixed(2)} V`}`;
+    return this.witnessAt(at, shows, { net: n.name, state: q, volts, against, required: against.what === 'logic threshold' ? 0 : required });
+  }
+
+  /**
+   * A witness for net `n` by analogy with the level witness of `model`, a net of the same
+   * class (an alike net the budget reached first): the model's witness with the values of
+   * the parts around the two nets exchanged, part for part (their regions, and those of the
+   * nets feeding them, correspond position by position), solved whole and judged afresh.
+   * Undefined where that point does not show `n` failing.
+   */
+  byAnalogy(n: NetCheck, model: NetCheck, required: number): Witness | undefined {
+    const mw = model.witness;
+    if (!mw?.level) return undefined;
+    const high = mw.level.state === 'high';
+    const swap = new Map<string, string>();
+    const pair = (a: string, b: string, depth: number): void => {
+      const ca = this.chain.nets.get(a);
+      const cb = this.chain.nets.get(b);
+      if (!ca || !cb || ca.kind !== cb.kind || depth < 0) return;
+      ca.region.parts.forEach((p, i) => {
+        const q = cb.region.parts[i]!;
+        if (p.name === q.name || swap.has(p.name) || swap.has(q.name)) return;
+        swap.set(p.name, q.name).set(q.name, p.name);
+      });
+      ca.feeders.forEach((fs, i) => fs.forEach((f, j) => cb.feeders[i]?.[j] !== undefined && pair(f, cb.feeders[i]![j]!, depth - 1)));
+    };
+    pair(model.name, n.name, 1);
+    const state: WholeState = {
+      close: Object.entries(mw.positions).flatMap(([name, pos]) => (pos === 'closed' && !this.design.parts.some((p) => p.type === 'switch' && p.name === name && p.closed) ? [name] : [])),
+      hints: Object.entries(mw.states).map(([net, v]) => ({ net, high: v === 'high' })),
+    };
+    const w = this.whole(state.close);
+    const start = this.start(state);
+    if (!start || this.logicOf(w, state, start).get(n.name) !== high) return undefined;
+    const named = (name: string) => {
+      const [part, suffix] = name.endsWith(INTERFACE_SUFFIX) ? [name.slice(0, -INTERFACE_SUFFIX.length), INTERFACE_SUFFIX] : [name, ''];
+      return mw.values[`${swap.get(part) ?? part}${suffix}`];
+    };
+    const values = Float64Array.from(w.parameters, (p, i) => named(witnessName(p)) ?? w.nominal[i]!);
+    if (!w.problem.solveFrom(values, start)) return undefined;
+    const latches = this.latchStates(w, state);
+    if (!latches.every((l) => latchHeld(w.problem.volts(l.high), w.problem.volts(l.low), l.threshold))) return undefined;
+    const ranked = mw.key.map((k) => w.parameters.findIndex((p) => witnessName(p) === (swap.get(k) ?? k))).filter((i) => i >= 0);
+    return this.levelWitness(n, high, { value: w.problem.volts(w.terminal(n.name)), values, ranked, state, w, start }, required);
+  }
+
   /**
    * Refines a failing net whose failure is in its levels or its drivers' cutoff: each
    * question the bound fails is searched for over the states it arises in. Undefined when
@@ -207,14 +292,6 @@ export class Refiner {
     let cleared = true;
     const vihBound = n.receivers.reduce<number | undefined>((m, r) => (r.vihMax === undefined ? m : Math.max(m ?? -Infinity, r.vihMax)), undefined);
     const vilBound = n.receivers.reduce<number | undefined>((m, r) => (r.vilMin === undefined ? m : Math.min(m ?? Infinity, r.vilMin)), undefined);
-    const witnessAt = (f: Found, shows: string, level?: Witness['level']): Witness => ({
-      values: f.w.named(f.values),
-      key: f.ranked.slice(0, WITNESS_KEY).map((i) => witnessName(f.w.parameters[i]!)),
-      positions: positionsOf(this.design, new Set(f.state.close)),
-      states: Object.fromEntries(f.state.hints.map((h) => [h.net, h.high ? 'high' : 'low'])),
-      shows,
-      ...(level ? { level } : {}),
-    });
     for (const q of questions) {
       if (q === 'cutoff') {
         // Each driver's grid against its cathode, pushed up while the net is high; cut off or not at that corner.
@@ -242,7 +319,7 @@ export class Refiner {
           const cutoff = cutoffGrid(c.tubeParams, t * P.size, v(c.tA[t]!) - vk, c.hasScreen[t] ? v(c.tS[t]!) - vk : 0);
           if (cutoff === undefined) continue;
           if (f.value > cutoff) {
-            witness ??= { ...witnessAt(f, `${section} is not cut off while ${n.name} is high: its grid sits at ${f.value.toFixed(3)} V, above its cutoff at ${cutoff.toFixed(3)} V`), grid: { section, vgk: f.value, cutoff } };
+            witness ??= { ...this.witnessAt(f, `${section} is not cut off while ${n.name} is high: its grid sits at ${f.value.toFixed(3)} V, above its cutoff at ${cutoff.toFixed(3)} V`), grid: { section, vgk: f.value, cutoff } };
           }
         }
         continue;
@@ -258,30 +335,7 @@ export class Refiner {
         continue;
       }
       found[q] = f.value;
-      // Judged against each receiving stage's thresholds at the same values: first at the
-      // level's worst corner, then with the receiving stage's own parts moved to the corner
-      // that makes its threshold worst (the two need not coincide: a weak driver and a
-      // strong receiver are different sections).
-      let failure: { at: Found; volts: number; against: NonNullable<Witness['level']>['against'] } | undefined;
-      if (high ? f.value <= threshold : f.value >= threshold) failure = { at: f, volts: f.value, against: { what: 'logic threshold', volts: threshold } };
-      for (const rc of failure ? [] : n.receivers) {
-        const candidates = [f, this.withReceiverCorner(f, n.name, rc, high)].filter((c): c is Found => c !== undefined);
-        for (const c of candidates) {
-          if (!c.w.problem.solveFrom(c.values, c.start)) continue;
-          const volts = c.w.problem.volts(c.w.terminal(n.name));
-          const t = thresholdsAt(this.chain, c.w.named(c.values), (net) => c.w.problem.volts(c.w.terminal(net)), n.name, rc);
-          if (t && (high ? volts - t.vih : t.vil - volts) < required) {
-            failure = { at: c, volts, against: { what: high ? 'VIH' : 'VIL', volts: high ? t.vih : t.vil, stage: rc.stage } };
-            break;
-          }
-        }
-        if (failure) break;
-      }
-      if (failure) {
-        const { at, volts, against } = failure;
-        const shows = `${n.name} ${q} at ${volts.toFixed(3)} V against ${against.what === 'logic threshold' ? 'its logic threshold' : `${against.stage}'s ${against.what}`} ${against.volts.toFixed(3)} V${against.what === 'logic threshold' ? '' : `: a noise margin below the required ${required.toFixed(2)} V`}`;
-        witness ??= witnessAt(at, shows, { net: n.name, state: q, volts, against, required: against.what === 'logic threshold' ? 0 : required });
-      }
+      witness ??= this.levelWitness(n, high, f, required);
       // Cleared for good only against the worst-case thresholds, which bound those of every corner.
       cleared &&= high ? f.value > threshold && (vihBound === undefined || f.value - vihBound >= required) : f.value < threshold && (vilBound === undefined || vilBound - f.value >= required);
     }
@@ -400,5 +454,19 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
     n.witness = r.witness;
     n.reasons = r.status === 'pass' ? [] : [r.status === 'undecided' ? `undecided: ${r.reason}` : r.reason, ...n.reasons.map((x) => `the bound: ${x}`)];
     if (r.status === 'pass') n.note = r.reason;
+  }
+  // Alike nets the budget did not reach, or whose own search found no failure, are tried
+  // at the witness of one that failed, their parts exchanged: one solve each.
+  for (const n of nets) {
+    if (n.witness || (n.status !== 'fail' && n.status !== 'undecided') || !n.refinable || !refiner) continue;
+    const model = nets.find((m) => m !== n && m.classId === n.classId && m.witness?.level);
+    const witness = model && refiner.byAnalogy(n, model, required);
+    if (!witness) continue;
+    n.status = 'fail';
+    n.basis = 'witness';
+    n.witness = witness;
+    // What the refinement said before (undecided, not searched, no corner failing) gives way to the witness.
+    const bound = n.reasons.filter((x) => !['undecided: ', 'its gain fails by the bound', 'no corner of the whole design'].some((s) => x.startsWith(s)));
+    n.reasons = [`at the corner of its witness (that of ${model.name}, the parts around the two exchanged), ${witness.shows}`, ...bound.map((x) => (x.startsWith('the bound: ') ? x : `the bound: ${x}`))];
   }
 }
