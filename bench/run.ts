@@ -108,7 +108,7 @@ const family = runFamily(familyDesigns(2026015, 45), 200);
 const judged = family.comparisons.flatMap((c) => c.verdicts);
 const count = (status: string, basis: string) => judged.filter((v) => v.status === status && v.basis === basis).length;
 const familyTable = [
-  `Measured ${new Date().toISOString().slice(0, 10)} on ${process.platform}/${process.arch}, Node ${process.version}, by \`npm run bench\` (bench/family.ts, seed 2026015; every corner and 200 interior points of each design solved whole).`,
+  `Measured ${new Date().toISOString().slice(0, 10)} on ${process.platform}/${process.arch}, Node ${process.version}, by \`npm run bench\` (bench/family.ts, seed 2026015; every corner, 200 interior points and an even grid of every band walked from each level's worst point, each design solved whole).`,
   '',
   '| figure | value |',
   '|---|---:|',

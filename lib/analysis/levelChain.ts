@@ -242,6 +242,9 @@ export class LevelChain {
   private readonly members = new Map<string, string[]>();
   private classes = new Map<string, number>();
 
+  /** For a net with a section whose grid no logic net feeds: whether those sections conduct (found at nominal values when the chain runs). */
+  readonly fixed = new Map<string, boolean>();
+
   /** The class of a net after `run`: nets of one class have equal levels and equal local results. */
   classOf(net: string): number {
     return this.classes.get(net)!;
@@ -318,13 +321,21 @@ export class LevelChain {
       l.canHigh = states.includes(true);
       l.canLow = states.includes(false);
     }
+    // A section whose grid no logic net feeds (tied to a rail through its divider) is on
+    // or off for good: its net's level with every other section off says which.
+    for (const name of representatives) {
+      const net = this.nets.get(name)!;
+      if ((net.polarity !== 'inverting' && net.polarity !== 'follower') || !net.feeders.some((fs) => fs.length === 0)) continue;
+      const high = this.isHigh(name, this.solveCase({ net: name, on: undefined }).nominal);
+      for (const member of this.members.get(name)!) this.fixed.set(member, net.polarity === 'inverting' ? !high : high);
+    }
     for (let changed = true; changed; ) {
       changed = false;
       for (const name of representatives) {
         const net = this.nets.get(name)!;
         if (net.polarity === 'input' || net.polarity === 'mixed') continue;
         const l = this.levels.get(net.name)!;
-        const all = (fs: string[], high: boolean) => fs.every((f) => (high ? this.levels.get(f)!.canHigh : this.levels.get(f)!.canLow));
+        const all = (fs: string[], high: boolean) => (fs.length === 0 ? this.fixed.get(name) === high : fs.every((f) => (high ? this.levels.get(f)!.canHigh : this.levels.get(f)!.canLow)));
         const anyOn = net.feeders.some((fs) => all(fs, true));
         const allOff = net.feeders.every((fs) => all(fs, false));
         const canHigh = net.polarity === 'inverting' ? allOff : anyOn;
@@ -393,7 +404,9 @@ export class LevelChain {
   casesOf(net: ChainNet): { high: LevelCase[]; low: LevelCase[] } {
     const l = this.levels.get(net.name)!;
     const none: LevelCase[] = [{ net: net.name, on: undefined }];
-    const each = net.drivers.map((_, i): LevelCase => ({ net: net.name, on: i })).filter((c) => net.feeders[c.on!]!.every((f) => this.levels.get(f)!.canHigh));
+    const each = net.drivers
+      .map((_, i): LevelCase => ({ net: net.name, on: i }))
+      .filter((c) => (net.feeders[c.on!]!.length === 0 ? this.fixed.get(net.name) === true : net.feeders[c.on!]!.every((f) => this.levels.get(f)!.canHigh)));
     const inverting = net.polarity === 'inverting';
     return { high: l.canHigh ? (inverting ? none : each) : [], low: l.canLow ? (inverting ? each : none) : [] };
   }

@@ -47,8 +47,8 @@ export function wholeStates(design: Design, graph: StageGraph): WholeState[] | u
 /**
  * Each net's logic value in a state, from its inputs' levels at nominal values and the
  * latches' hints: a plate net is high when none of its sections has a high input, a
- * cathode net when one has. Undefined where the logic does not say (a section whose grid
- * no logic net feeds, a net driven both ways).
+ * cathode net when one has; a section whose grid no logic net feeds is on or off as the
+ * chain found it. Undefined where the logic does not say (a net driven both ways).
  */
 export function stateLogic(chain: LevelChain, state: WholeState, nominal: (net: string) => number | undefined): Map<string, boolean | undefined> {
   const logic = new Map<string, boolean | undefined>();
@@ -65,7 +65,7 @@ export function stateLogic(chain: LevelChain, state: WholeState, nominal: (net: 
       const net = chain.nets.get(name)!;
       if (net.polarity !== 'inverting' && net.polarity !== 'follower') continue;
       // A section conducts when one of its inputs is high; is off when all are low.
-      const conducts = net.feeders.map((fs) => (fs.some((f) => logic.get(f) === true) ? true : fs.length > 0 && fs.every((f) => logic.get(f) === false) ? false : undefined));
+      const conducts = net.feeders.map((fs) => (fs.length === 0 ? chain.fixed.get(name) : fs.some((f) => logic.get(f) === true) ? true : fs.every((f) => logic.get(f) === false) ? false : undefined));
       const any = conducts.some((c) => c === true) ? true : conducts.every((c) => c === false) ? false : undefined;
       if (any === undefined) continue;
       logic.set(name, net.polarity === 'inverting' ? !any : any);

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { solveOperatingPoint } from '../../lib/index.js';
+import { reproduceWitness, solveOperatingPoint } from '../../lib/index.js';
 import { runCommand } from '../cliRun.js';
-import { design } from '../helpers.js';
+import { checkOf, design } from '../helpers.js';
 
 // A chain of N inverters from a switched input: each stage's state hangs on the one before.
 const chain = (n: number) => `rail bp = 24 V
@@ -84,5 +84,48 @@ describe('kilovolt designs and designs without logic', () => {
     expect(r.err).toContain('--shrink skipped');
     expect(r.err).toContain('--samples skipped');
     expect(r.err).not.toContain('internal error');
+  });
+});
+
+describe("levels a net can take, in designs whose stages have an input or cathode tied to a rail", () => {
+  // `tied`'s grid is fed from B+ only: its section always conducts, so `tied` is never
+  // high. `odd`'s cathode sits on the bias rail, so its section conducts whatever its
+  // input: its "high" is the level it really takes with its input low (a witness shows it).
+  const text = `rail bp = 24 V tol 5 %
+rail bias = -12 V tol 5 %
+defaults { tube = "6AU6" }
+button A (ia, bp)
+resistor RA (ia, bias) 100 k
+stage buf { load 33 k to bp; screen bp; input ia series 220 k pulldown 220 k to bias }
+stage odd { load 33 k to bp; screen bp; cathode bias; input buf series 220 k pulldown 220 k to bias }
+stage tied { load 33 k to bp; screen bp; input bp series 220 k pulldown 220 k to bias }
+stage after { load 33 k to bp; screen bp; input odd series 220 k pulldown 220 k to bias; input tied series 220 k pulldown 220 k to bias }
+`;
+
+  it('gives a net whose only section always conducts no high level, and no rail end for a level it never reaches', () => {
+    const d = design(text);
+    const r = checkOf(d);
+    const net = (name: string) => r.nets.find((n) => n.name === name)!;
+    expect(net('tied').high).toBeUndefined();
+    expect(net('tied').status).toBe('pass');
+    // No level is the bias rail's far end (−12.6 V), which no net here reaches (the whole
+    // circuit's span at every corner: the level of a node lies between the rails, DC).
+    for (const n of r.nets) for (const l of [n.high, n.low]) if (l) expect(Math.abs(l.worst + 12.6), n.name).toBeGreaterThan(0.05);
+    // Every failure is shown at a corner where the whole design fails.
+    for (const n of r.nets.filter((x) => x.status === 'fail')) expect(n.witness && reproduceWitness(d, n.witness).reproduced, n.name).toBe(true);
+  });
+
+  it('names as a cause only levels within what the named net can take', () => {
+    const d = design(text);
+    const r = checkOf(d);
+    for (const n of r.nets) {
+      for (const c of n.weakest?.causes ?? []) {
+        if (c.kind !== 'level') continue;
+        const t = r.nets.find((x) => x.name === c.target)!;
+        const ends = [t.high?.worst, t.low?.worst, t.high?.nominal, t.low?.nominal].filter((x): x is number => x !== undefined);
+        expect(c.value, `${n.name}: ${c.target}`).toBeGreaterThanOrEqual(Math.min(...ends) - 1e-6);
+        expect(c.value, `${n.name}: ${c.target}`).toBeLessThanOrEqual(Math.max(...ends) + 1e-6);
+      }
+    }
   });
 });
