@@ -457,9 +457,11 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
   }
   // Alike nets the budget did not reach, or whose own search found no failure, are tried
   // at the witness of one that failed, their parts exchanged: one solve each.
+  const models = new Map<number, NetCheck>();
+  for (const m of nets) if (m.witness?.level && !models.has(m.classId)) models.set(m.classId, m);
   for (const n of nets) {
     if (n.witness || (n.status !== 'fail' && n.status !== 'undecided') || !n.refinable || !refiner) continue;
-    const model = nets.find((m) => m !== n && m.classId === n.classId && m.witness?.level);
+    const model = models.get(n.classId);
     const witness = model && refiner.byAnalogy(n, model, required);
     if (!witness) continue;
     n.status = 'fail';
