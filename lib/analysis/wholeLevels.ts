@@ -5,7 +5,7 @@ import type { AgeingScenario } from './ageing.js';
 import { CornerBudget, ITERATIONS_PER_CORNER, latchHeld, walkCorners, type WholeDesign } from './cornerSearch.js';
 import type { LevelChain } from './levelChain.js';
 import { designParameters } from './parameters.js';
-import { Refiner, stateLogic, type Seed, type WholeState } from './refineNets.js';
+import { everyState, Refiner, stateLogic, type Seed } from './refineNets.js';
 
 /**
  * Correlated levels for designs small enough to solve whole. The chain solves each net's
@@ -23,8 +23,6 @@ import { Refiner, stateLogic, type Seed, type WholeState } from './refineNets.js
 
 /** Parameters enumerated over every corner, per state: 2^12 = 4,096 corners. */
 export const TIGHT_PARAMETERS = 12;
-/** States (contact combinations times latch states) at most. */
-export const MAX_TIGHT_STATES = 16;
 /** Work (Newton iterations times unknowns) the enumeration may take in all. */
 export const TIGHT_WORK = 1_200_000;
 /** A slope moving a level by less than this across its band (volts) is not searched along. */
@@ -33,20 +31,6 @@ const POLISH_VOLTS = 1e-4;
 const POLISH_MOVES = 24;
 /** Golden-section steps of a line search: the band shrinks to 0.618^14 ≈ 0.1 % of its width. */
 const GOLDEN_STEPS = 14;
-
-/**
- * Every state of the design: each combination of its contacts (closed or at rest) times
- * each combination of its latches' states. Undefined for a design with a loop that is not
- * a latch, or with more than `MAX_TIGHT_STATES` states.
- */
-export function everyState(design: Design, graph: StageGraph): WholeState[] | undefined {
-  if (graph.loops.some((l) => l.kind !== 'latch')) return undefined;
-  const contacts = design.parts.filter((p) => p.type === 'switch' && !p.closed).map((p) => p.name);
-  const latches = graph.loops.map((l) => l.nets[0]!);
-  if (2 ** (contacts.length + latches.length) > MAX_TIGHT_STATES) return undefined;
-  const subsets = <T>(items: T[]): T[][] => Array.from({ length: 2 ** items.length }, (_, m) => items.filter((_, i) => (m & (1 << i)) !== 0));
-  return subsets(contacts).flatMap((close) => subsets(latches).map((up) => ({ close, hints: latches.map((net) => ({ net, high: up.includes(net) })) })));
-}
 
 /** What the whole design gives for one level of one net in one state. */
 interface LevelFound {

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { familyDesigns } from '../../bench/family.js';
 import { familyDesign, familyTruth } from '../../bench/familyOracle.js';
 import { buildStageGraph, checkMargins, loadDesign, type CheckResult } from '../../lib/index.js';
-import { everyState } from '../../lib/analysis/wholeLevels.js';
+import { everyState } from '../../lib/analysis/refineNets.js';
 
 const checked = (text: string, refine = true): CheckResult => {
   const d = loadDesign('t.tube', text).design!;
@@ -31,6 +31,20 @@ stage other { load 33 k to bp; screen bp; input gs series 100 k pulldown 100 k t
     // 2 contacts and 1 latch: 2^3 states (counting, no source needed).
     expect(states).toHaveLength(8);
     expect(new Set(states.map((s) => `${s.close.join('+')}|${s.hints.map((h) => `${h.net}=${h.high}`).join(',')}`)).size).toBe(8);
+  });
+
+  it('does not list the states of a design whose toggle switch it closes (its open position would be missing), nor narrow it', () => {
+    const text = `rail bp = 24 V tol 5 %
+rail bias = -12 V tol 5 %
+defaults { tube = "6AU6" }
+switch S (ia, bp) closed
+resistor RA (ia, bias) 100 k
+stage x { load 33 k tol 5 % to bp; screen bp; input ia series 220 k tol 5 % pulldown 220 k tol 5 % to bias }
+stage y { load 33 k tol 5 % to bp; screen bp; input x series 220 k tol 5 % pulldown 220 k tol 5 % to bias }
+`;
+    const d = loadDesign('t.tube', text).design!;
+    expect(everyState(d, buildStageGraph(d))).toBeUndefined();
+    expect(checked(text).wholeLevels).toBeUndefined();
   });
 
   // The family's "fan-out 2": a driver feeding three clamped grids; r1's low level is worst
