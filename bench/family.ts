@@ -23,7 +23,7 @@ import type { StateHint } from '../lib/index.js';
  * nothing.
  */
 
-export type FamilyShape = 'latch' | 'fanout' | 'chain';
+export type FamilyShape = 'latch' | 'fanout' | 'chain' | 'gate';
 
 /** One logic state the design is judged in: the buttons held pressed, the latch hints, and what the logic says every net reads. */
 export interface FamilyState {
@@ -223,6 +223,59 @@ const chain = (n: number): fc.Arbitrary<FamilyDesign> =>
       ].join('\n'),
     }))),
   );
+
+/**
+ * Two buttons into a NOR gate (two sections of one type, each with its own spread), its
+ * output into an inverter and, with the second button, into a second NOR: four states
+ * (neither, either, both pressed), in which each net's level depends on which inputs are
+ * pressed together. 2 rails, 8 resistors and 2 sections toleranced (12 parameters); the
+ * second NOR's own parts exact.
+ */
+const gate = (n: number): fc.Arbitrary<FamilyDesign> =>
+  fc.tuple(supply, triode, triode, triode).chain(([s, ta, tc, td]) =>
+    fc.tuple(aimedLoad(ta, s.bp), aimedLoad(tc, s.bp), aimedLoad(td, s.bp)).chain(([lg, lh, lk]) =>
+      fc
+        .tuple(divider(s, ta.mu, 10e3, s.bias), divider(s, ta.mu, 10e3, s.bias), divider(s, tc.mu, lg, lowLevel(ta, s.bp, lg)), divider(s, td.mu, lg, lowLevel(ta, s.bp, lg)), divider(s, td.mu, 10e3, s.bias), tolerance, tolerance, tolerance)
+        .map(([d1, d2, dh, dk, dk2, t1, t2, t3]) => ({
+          name: `gate ${n}`,
+          shape: 'gate' as const,
+          latch: undefined,
+          states: [
+            [false, false],
+            [true, false],
+            [false, true],
+            [true, true],
+          ].map(([p1, p2]) => {
+            const g = !(p1 || p2);
+            return { label: `IN1 ${p1 ? 'pressed' : 'released'}, IN2 ${p2 ? 'pressed' : 'released'}`, close: [...(p1 ? ['IN1'] : []), ...(p2 ? ['IN2'] : [])], hints: [], logic: { x1: p1!, x2: p2!, g, h: !g, k: !(g || p2) } };
+          }),
+          text: [
+            ...header(`family gate ${n}`, s),
+            'button IN1 (x1, bp)',
+            'resistor RX1 (x1, bias) 100 k',
+            'button IN2 (x2, bp)',
+            'resistor RX2 (x2, bias) 100 k',
+            typeLine('TA', ta, ta.spread),
+            typeLine('TC', tc, 0),
+            typeLine('TD', td, 0),
+            stageLine('g', 'TA', lg, t1, [
+              { from: 'x1', d: d1, tol: t1 },
+              { from: 'x2', d: d2, tol: t2 },
+            ]),
+            stageLine('h', 'TC', lh, t3, [{ from: 'g', d: dh, tol: t3 }]),
+            stageLine('k', 'TD', lk, 0, [
+              { from: 'g', d: dk, tol: 0 },
+              { from: 'x2', d: dk2, tol: 0 },
+            ]),
+          ].join('\n'),
+        })),
+    ),
+  );
+
+/** `count` gate designs (`gate`) from `seed`, each fixed by the seed and its index alone. */
+export function gateDesigns(seed: number, count: number): FamilyDesign[] {
+  return Array.from({ length: count }, (_, i) => fc.sample(gate(i + 1), { seed: seed + i, numRuns: 1 })[0]!);
+}
 
 /**
  * `count` designs of the family from `seed`, shapes in turn (latch, fan-out, chain), each

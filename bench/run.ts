@@ -5,7 +5,7 @@ import { againstDense, benchSizes, iterationAgainstModels } from './solverBench.
 import { benchCheck } from './checkBench.js';
 import { benchDemoYield, benchSampling } from './samplingBench.js';
 import { benchPulse } from './pulseBench.js';
-import { familyDesigns } from './family.js';
+import { familyDesigns, gateDesigns } from './family.js';
 import { runFamily } from './familyOracle.js';
 
 /**
@@ -124,6 +124,24 @@ const familyTable = [
 ].join('\n');
 process.stdout.write(familyTable + '\n');
 
+// ---- check against the gate family: combinations of two buttons -------------------------
+const gates = runFamily(gateDesigns(2026016, 20), 100);
+const gateVerdicts = gates.comparisons.flatMap((c) => c.verdicts);
+const gateTable = [
+  `Measured ${new Date().toISOString().slice(0, 10)} on ${process.platform}/${process.arch}, Node ${process.version}, by \`npm run bench\` (bench/family.ts \`gateDesigns\`, seed 2026016; every corner in each of the four button states, 100 interior points and the grid walk, each design solved whole).`,
+  '',
+  '| figure | value |',
+  '|---|---:|',
+  `| designs (two buttons, a NOR, an inverter, a second NOR) | ${gates.designs} |`,
+  `| levels compared | ${gates.levels} |`,
+  `| levels reported better than the truth (optimistic; goal 0) | **${gates.optimistic.length}** |`,
+  `| bound's pessimism, median / worst (goal 0.1 V / 0.5 V) | ${gates.median.toFixed(2)} V / ${gates.worst.toFixed(2)} V |`,
+  `| witnesses printed / reproduced | ${gates.witnesses} / ${gates.witnesses - gates.unreproduced.length} |`,
+  `| nets: ok by bounds / ok by corners / FAIL with a witness / FAIL by bound / UNDECIDED | ${['pass/bounds', 'pass/corners', 'fail/witness', 'fail/bounds', 'undecided/undecided'].map((k) => gateVerdicts.filter((v) => `${v.status}/${v.basis}` === k).length).join(' / ')} |`,
+  `| check, all ${gates.designs} designs | ${(gates.checkMs / 1000).toFixed(1)} s (${(gates.checkMs / gates.designs).toFixed(0)} ms a design) |`,
+].join('\n');
+process.stdout.write(gateTable + '\n');
+
 // ---- Monte Carlo ---------------------------------------------------------------------
 const sampling = await benchSampling(2000, 100, 500);
 const demo1 = await benchDemoYield('nets/crate-tally.tube', 10_000, 1);
@@ -170,6 +188,7 @@ if (process.argv.includes('--write')) {
   put('solver', solverTable);
   put('check', checkTable);
   put('family', familyTable);
+  put('gates', gateTable);
   put('sampling', samplingTable);
   put('pulse', pulseTable);
   writeFileSync(path, doc);

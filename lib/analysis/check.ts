@@ -7,7 +7,7 @@ import { error, type Diagnostic } from '../source/diagnostic.js';
 import { AGEING_SCENARIOS, type AgeingScenario } from './ageing.js';
 import { fanoutHeadroom, MAX_EXTRA_LOADS, standardLoad, type StandardLoad } from './fanoutHeadroom.js';
 import { cutoffMargin, driveMargin, type GridMargin } from './gridMargins.js';
-import { LevelChain, type CaseResult, type ChainNet } from './levelChain.js';
+import { LevelChain, type CaseResult, type ChainNet, type LevelCase } from './levelChain.js';
 import { latchCheck, type LatchResult } from './latchCheck.js';
 import type { Witness } from './cornerSearch.js';
 import { refineVerdicts, type RefineQuestion } from './refineNets.js';
@@ -402,21 +402,20 @@ function causesOf(chain: LevelChain, net: ChainNet, what: 'high' | 'low' | 'cuto
   const found = chain.memo(`causes|${chain.classOf(net.name)}|${what}`, () => {
     const cases = chain.casesOf(net);
     const list = what === 'low' ? cases.low : cases.high;
-    let result: CaseResult | undefined;
+    let worst: { c: LevelCase; r: CaseResult } | undefined;
     const worse = (x: CaseResult) => (x.worst ?? (x.sense === 'min' ? -Infinity : Infinity)) * (x.sense === 'min' ? -1 : 1);
     for (const c of list) {
       const r = chain.solveCase(c);
-      if (!result || worse(r) > worse(result)) result = r;
+      if (!worst || worse(r) > worse(worst.r)) worst = { c, r };
     }
-    if (!result?.vertex || !result.effects) return [];
-    const r = result;
+    const shares = worst && chain.sharesAt(worst.c, worst.r);
+    if (!worst || !shares) return [];
+    const r = worst.r;
+    // Only what moves the level the worse way is a cause of its being worst.
+    const sign = r.sense === 'min' ? -1 : 1;
     return r.bands
-      .map((b, i) => {
-        const width = b.high - b.low;
-        const shift = width > 0 ? (r.effects![i]! * (r.vertex![i]! - b.nominal)) / width : 0;
-        return { index: i, end: r.vertex![i] === b.high ? ('high' as const) : ('low' as const), value: r.vertex![i]!, volts: shift };
-      })
-      .filter((c) => Math.abs(c.volts) > 1e-3)
+      .map((_, i) => ({ index: i, end: r.vertex![i] === r.bands[i]!.high ? ('high' as const) : ('low' as const), value: r.vertex![i]!, volts: shares[i]! }))
+      .filter((c) => sign * c.volts > 1e-3)
       .sort((a, b) => Math.abs(b.volts) - Math.abs(a.volts))
       .slice(0, 4);
   });

@@ -430,7 +430,11 @@ export function reproduceWitness(design: Design, witness: Witness, graph?: Stage
     if (volts === undefined || !op.converged) return { op, reproduced: false, seen: `${level.net} did not solve`, unknown: at.unknown };
     const margin = level.state === 'high' ? volts - level.against.volts : level.against.volts - volts;
     const fails = level.against.what === 'logic threshold' ? margin <= 0 : margin < level.required;
-    return { op, reproduced: Math.abs(volts - level.volts) <= 1e-3 && fails, seen: `${level.net} at ${volts.toFixed(3)} V (the witness says ${level.volts.toFixed(3)} V): ${margin.toFixed(3)} V from ${level.against.what} ${level.against.volts.toFixed(3)} V, ${level.required.toFixed(2)} V required`, unknown: at.unknown };
+    const judged =
+      level.against.what === 'logic threshold'
+        ? `its ${level.state} level on the ${fails ? 'wrong' : 'right'} side of its logic threshold ${level.against.volts.toFixed(3)} V`
+        : `${margin.toFixed(3)} V from ${level.against.what} ${level.against.volts.toFixed(3)} V, ${level.required.toFixed(2)} V required`;
+    return { op, reproduced: Math.abs(volts - level.volts) <= 1e-3 && fails, seen: `${level.net} at ${volts.toFixed(3)} V (the witness says ${level.volts.toFixed(3)} V): ${judged}`, unknown: at.unknown };
   }
   const grid = witness.grid;
   if (grid) {

@@ -500,8 +500,7 @@ export class LevelChain {
     const hit = this.results.get(cacheKey);
     if (hit) return hit;
     this.solves++;
-    const close = new Set(input && c.on !== undefined && c.on > 0 ? net.switches[c.on - 1]!.switches : []);
-    const { problem } = this.problem(net.region, close, net.kind);
+    const problem = this.caseProblem(c, net);
     const bands = this.bandsOf(net, on);
     const sense: 'min' | 'max' = input ? 'min' : (c.on === undefined) === (net.polarity === 'inverting') ? 'min' : 'max';
     let judged = sense;
@@ -515,6 +514,32 @@ export class LevelChain {
     const result: CaseResult = { nominal: found?.nominal ?? NaN, worst: found?.worst, sense: judged, bands, vertex: found?.vertex, effects: found?.effects };
     this.results.set(cacheKey, result);
     return result;
+  }
+
+  /** The compiled local problem a case is solved on: the net's region, with an input's switches closed as the case has them. */
+  private caseProblem(c: LevelCase, net: ChainNet): LocalProblem {
+    const close = new Set(net.polarity === 'input' && c.on !== undefined && c.on > 0 ? net.switches[c.on - 1]!.switches : []);
+    return this.problem(net.region, close, net.kind).problem;
+  }
+
+  /**
+   * What each parameter's place at a case's worst vertex does to the level there: the
+   * level at the vertex minus the level with that one parameter back at nominal (one local
+   * solve each; 0 where that does not solve). Unlike the slopes, the sign is the move's
+   * own, also where a corner, not the slope, put the parameter at its end.
+   */
+  sharesAt(c: LevelCase, r: CaseResult): Float64Array | undefined {
+    if (!r.vertex || r.worst === undefined) return undefined;
+    const problem = this.caseProblem(c, this.nets.get(c.net)!);
+    const values = Float64Array.from(r.vertex);
+    return Float64Array.from(r.bands, (b, i) => {
+      const was = values[i]!;
+      if (was === b.nominal) return 0;
+      values[i] = b.nominal;
+      const v = problem.solve(values) ? problem.volts(problem.target) : undefined;
+      values[i] = was;
+      return v === undefined ? 0 : r.worst! - v;
+    });
   }
 
   /** A result kept under `key` (transfer curves, latch checks, fan-out probes), computed once. */

@@ -365,6 +365,7 @@ export class Refiner {
     if (exhaustive && cleared && this.complete) {
       return { status: 'pass', basis: 'corners', found, witness: undefined, corners, reason: `every corner of the whole design keeps it within its limits (${corners.toLocaleString('en')} corners solved); the chained bounds alone could not show it` };
     }
+    if (corners === 0) return { status: 'undecided', basis: 'undecided', found, witness: undefined, corners, reason: "its bound fails, and this check's budget for corners of the whole design ran out before any of its own was solved" };
     const why = !exhaustive ? 'not every corner was solved' : !cleared ? 'the level found does not clear the worst-case thresholds' : 'not every state of its contacts and latches was searched';
     return { status: 'undecided', basis: 'undecided', found, witness: undefined, corners, reason: `no corner searched fails it (${corners.toLocaleString('en')} solved), but its bound does, and ${why}` };
   }
@@ -445,6 +446,21 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
   }
   // A net whose bound fails on its levels is put to the corners of the whole design.
   let refiner: Refiner | undefined;
+  // Alike nets (one class) are tried at the image of the first one's level witness, their
+  // parts exchanged (`byAnalogy`): one solve each, where their own search is thousands.
+  const models = new Map<number, NetCheck>();
+  const byModel = (refiner: Refiner, n: NetCheck): boolean => {
+    const model = models.get(n.classId);
+    const witness = model && model !== n ? refiner.byAnalogy(n, model, required) : undefined;
+    if (!model || !witness) return false;
+    n.status = 'fail';
+    n.basis = 'witness';
+    n.witness = witness;
+    // What a refinement said before (undecided, not searched, no corner failing) gives way to the witness.
+    const bound = n.reasons.filter((x) => !['undecided: ', 'its gain fails by the bound', 'no corner of the whole design'].some((s) => x.startsWith(s)));
+    n.reasons = [`at the corner of its witness (that of ${model.name}, the parts around the two exchanged), ${witness.shows}`, ...bound.map((x) => (x.startsWith('the bound: ') ? x : `the bound: ${x}`))];
+    return true;
+  };
   const lostLatch = new Map(latches.filter((l) => l.basis === 'witness').flatMap((l) => l.nets.map((net) => [net, l] as const)));
   for (const n of nets) {
     if (n.status !== 'fail') continue;
@@ -458,6 +474,8 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
     }
     if (!n.refinable) continue;
     refiner ??= new Refiner(design, graph, scenario, chain, budget, ctx.seeds);
+    // An alike net already failed: its witness's image costs one solve, a search thousands.
+    if (byModel(refiner, n)) continue;
     const r = refiner.refine(n, required, n.refinable);
     // A gain that never reaches 1 is the stage's own failure, which no corner of its levels clears.
     if (flatInputs.has(n.name) && r?.status !== 'fail') {
@@ -477,21 +495,8 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
     n.witness = r.witness;
     n.reasons = r.status === 'pass' ? [] : [r.status === 'undecided' ? `undecided: ${r.reason}` : r.reason, ...n.reasons.map((x) => `the bound: ${x}`)];
     if (r.status === 'pass') n.note = r.reason;
+    if (n.witness?.level && !models.has(n.classId)) models.set(n.classId, n);
   }
-  // Alike nets the budget did not reach, or whose own search found no failure, are tried
-  // at the witness of one that failed, their parts exchanged: one solve each.
-  const models = new Map<number, NetCheck>();
-  for (const m of nets) if (m.witness?.level && !models.has(m.classId)) models.set(m.classId, m);
-  for (const n of nets) {
-    if (n.witness || (n.status !== 'fail' && n.status !== 'undecided') || !n.refinable || !refiner) continue;
-    const model = models.get(n.classId);
-    const witness = model && refiner.byAnalogy(n, model, required);
-    if (!witness) continue;
-    n.status = 'fail';
-    n.basis = 'witness';
-    n.witness = witness;
-    // What the refinement said before (undecided, not searched, no corner failing) gives way to the witness.
-    const bound = n.reasons.filter((x) => !['undecided: ', 'its gain fails by the bound', 'no corner of the whole design'].some((s) => x.startsWith(s)));
-    n.reasons = [`at the corner of its witness (that of ${model.name}, the parts around the two exchanged), ${witness.shows}`, ...bound.map((x) => (x.startsWith('the bound: ') ? x : `the bound: ${x}`))];
-  }
+  // Alike nets searched before one of their class failed are tried at its witness too.
+  for (const n of nets) if (!n.witness && (n.status === 'fail' || n.status === 'undecided') && n.refinable && refiner) byModel(refiner, n);
 }

@@ -126,6 +126,23 @@ function neverWhy(key: 'high' | 'low', n: NetCheck): string {
   return `never ${key}: no state of its drivers' inputs lets it go ${key}`;
 }
 
+/** Kinds of net (classes) the text explains at most; the rest are counted, and all are in the JSON. */
+const MAX_EXPLAINED = 10;
+
+/** Why a net has no `found` levels: what decided it instead. */
+function foundWhy(n: NetCheck): string {
+  if (n.basis === 'witness') return 'its witness decided it: the level at the witness is in its reasons';
+  if (n.status === 'undecided') return 'no corner of the whole design was searched: the budget or the states ran out (see its reasons)';
+  return 'its bounds decided it: no corner of the whole design was searched';
+}
+
+/** Why a net has no witness. */
+function witnessWhy(n: NetCheck): string {
+  if (n.status === 'fail') return 'the bound decided this failure (a grid, a gain or a loop that did not settle): no corner shows it';
+  if (n.status === 'undecided') return n.found ? 'no corner searched fails it, but not every corner was searched' : 'no corner was searched (see its reasons)';
+  return n.basis === 'corners' ? 'no corner fails it: every corner was solved' : 'its bounds keep the required margin: none can fail it';
+}
+
 /** Why a state's level is missing though the net takes that state: the solver found no solution at one of its corners. */
 function noLevelWhy(key: 'high' | 'low', l: { nominal: number; worst: number }): string {
   return Number.isFinite(l.nominal) ? `no solution at the worst corner of its ${key} state: the local solve did not converge there` : `no solution for its ${key} state even at nominal values: the local solve did not converge`;
@@ -172,8 +189,8 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
         status: n.status,
         reasons: n.reasons,
         basis: n.basis,
-        ...named('found', n.found && { ...figure('high', n.found.high, 'not searched: its high level passes by its bound, or it is never high'), ...figure('low', n.found.low, 'not searched: its low level passes by its bound, or it is never low') }, 'its bounds decided it: no corner of the whole design was searched'),
-        ...named('witness', n.witness, n.status === 'fail' ? 'the bound decided this failure (a grid, a gain or a loop that did not settle): no corner was searched' : 'no corner fails it'),
+        ...named('found', n.found && { ...figure('high', n.found.high, 'not searched: its high level passes by its bound, or it is never high'), ...figure('low', n.found.low, 'not searched: its low level passes by its bound, or it is never low') }, foundWhy(n)),
+        ...named('witness', n.witness, witnessWhy(n)),
         causes: (n.weakest?.causes ?? []).filter((c) => Number.isFinite(c.value) && Number.isFinite(c.volts)).map((c) => ({ parameter: c.target, kind: c.kind, end: c.end, value: c.value, effectVolts: c.volts })),
       };
     }),
@@ -464,10 +481,13 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
     out.push('  (SNM and trigger margin in volts, worst case; holds: both states exist at');
     out.push('  every corner; "?": neither that nor a corner losing a state was shown)');
   }
-  // The three weakest, one per class: nets alike are named with the first.
+  // The three weakest, and every one that fails or is undecided, one per class (nets alike
+  // are named with the first), at most MAX_EXPLAINED.
   const judged = r.nets.filter((n) => n.status !== 'unchecked');
   const firstOfClass = new Set<number>();
-  const explained = judged.filter((n) => !firstOfClass.has(n.classId) && firstOfClass.add(n.classId)).slice(0, 3);
+  const heads = judged.filter((n) => !firstOfClass.has(n.classId) && firstOfClass.add(n.classId));
+  const wanted = heads.filter((n, i) => i < 3 || n.status === 'fail' || n.status === 'undecided');
+  const explained = wanted.slice(0, MAX_EXPLAINED);
   if (explained.length > 0) {
     out.push('');
     out.push('The weakest nets, and why');
@@ -482,8 +502,10 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
       append(out, indented(`${k + 1}. ${n.name} (${statusText(n)}): ${n.note ?? summary}`, '', '     '));
       // A latch's witness is printed once, with the latch.
       if (n.witness && (n.witness.level || n.witness.grid)) append(out, renderWitness(n.witness, source, n.name));
-      const alike = judged.filter((m) => m.classId === n.classId && m !== n).map((m) => m.name);
-      if (alike.length > 0) out.push(`   alike: ${cutList(alike, REPORT_COLUMNS - 10)}`);
+      const alike = judged.filter((m) => m.classId === n.classId && m !== n);
+      // Alike nets can fail at witnesses of their own (their own parts at the same ends).
+      const own = alike.some((m) => m.witness && m.witness !== n.witness) ? ' (each with a witness of its own, in --json)' : '';
+      if (alike.length > 0) out.push(`   alike: ${cutList(alike.map((m) => m.name), REPORT_COLUMNS - 10 - own.length)}${own}`);
       for (const reason of n.reasons.slice(1)) append(out, indented(`also: ${reason}`, '   ', '     '));
       if (n.weakest && n.weakest.causes.length > 0) {
         out.push(`   its worst ${n.weakest.what === 'low' ? 'low level' : 'high level'} comes from:`);
@@ -491,6 +513,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
       }
     });
   }
+  if (wanted.length > explained.length) out.push(`   … and ${wanted.length - explained.length} more kinds of net that fail or are undecided (every one in --json)`);
   // Latches that fail, that are undecided, and those the corners showed to hold where the bounds could not.
   for (const l of r.latches.filter((l) => badLatches.includes(l) || l.basis !== 'bounds')) {
     out.push('');

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { familyDesigns } from '../../bench/family.js';
+import { familyDesigns, gateDesigns } from '../../bench/family.js';
 import { runFamily } from '../../bench/familyOracle.js';
 
 /**
@@ -48,5 +48,22 @@ describe('check against exhaustive corners of a family of small random designs',
     // Every FAIL decided by corners carries its witness.
     const failed = result.comparisons.flatMap((c) => c.verdicts).filter((v) => v.status === 'fail' && v.basis === 'witness');
     expect(failed.every((v) => v.witness === true)).toBe(true);
+  });
+});
+
+describe('check against exhaustive corners of gates whose levels depend on buttons pressed together', () => {
+  // Four designs of the gate family: every corner in each of the four button states (neither, either, both).
+  const result = runFamily(gateDesigns(2026016, 4), 20);
+
+  it('never reports a level better than the truth, and stays within 0.1 V at the median and 0.5 V at worst', () => {
+    expect(result.levels).toBeGreaterThan(30);
+    expect(result.optimistic.map((l) => `${l.design} ${l.net} ${l.level}: reported ${l.reported}, truth ${l.truth}`)).toEqual([]);
+    expect(result.median).toBeLessThanOrEqual(0.1);
+    expect(result.worst).toBeLessThanOrEqual(0.5);
+  });
+
+  it('fails nothing by a bound alone, and every witness reproduces', () => {
+    expect(Object.keys(result.statuses).filter((k) => k.startsWith('fail/') && k !== 'fail/witness')).toEqual([]);
+    expect(result.unreproduced).toEqual([]);
   });
 });

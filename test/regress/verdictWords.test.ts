@@ -1,0 +1,61 @@
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { findScenario, loadDesign, reproduceWitness } from '../../lib/index.js';
+import { checkToJson, renderCheck } from '../../lib/report/checkReport.js';
+import { ROOT, checkOf, memoryLoader, netsFiles } from '../helpers.js';
+
+/**
+ * What `check` says about its verdicts agrees with the verdicts, as a new user reading
+ * the adder's check found it did not (regressions of the fresh-eyes run).
+ */
+const demo = (file: string) => {
+  const text = readFileSync(join(ROOT, file), 'utf8');
+  return loadDesign(file, text, { loader: memoryLoader({ ...netsFiles(), [file]: text }) }).design!;
+};
+
+describe("check's words agree with its verdicts", () => {
+  const adder = demo('nets/nor-adder.tube');
+
+  it('names as causes of a worst level only parts and levels that move it the worse way, even at end of life', () => {
+    for (const scenario of ['new', 'end-of-life']) {
+      const r = checkOf(adder, { scenario: findScenario(scenario)! });
+      for (const n of r.nets) {
+        for (const c of n.weakest?.causes ?? []) {
+          // A worst high is made by what pulls it down; a worst low by what pushes it up.
+          if (n.weakest!.what === 'high') expect(c.volts, `${scenario}: ${n.name} ${c.target}`).toBeLessThan(0);
+          if (n.weakest!.what === 'low') expect(c.volts, `${scenario}: ${n.name} ${c.target}`).toBeGreaterThan(0);
+        }
+      }
+    }
+  });
+
+  it('explains every net that fails or is undecided in the text, as its headline says ("below")', () => {
+    const r = checkOf(adder);
+    const text = renderCheck(adder, r, 'nets/nor-adder.tube');
+    const explained = text.split('\n').filter((l: string) => /^\d+\. /.test(l));
+    for (const n of r.nets.filter((x) => x.status === 'fail' || x.status === 'undecided')) {
+      // Alike nets are named under the first of their class.
+      const first = r.nets.find((m) => m.classId === n.classId)!;
+      expect(explained.some((l: string) => new RegExp(`^\\d+\\. ${first.name} \\(`).test(l)), n.name).toBe(true);
+    }
+  });
+
+  it('gives reasons in the JSON for a missing witness or found level that fit the basis', () => {
+    const r = checkOf(adder);
+    const json = checkToJson(adder, r);
+    for (const n of json.nets) {
+      if (n.basis === 'witness') expect(n.foundWhy ?? '', n.name).not.toMatch(/bounds decided/);
+      if (n.status === 'undecided') expect(n.witnessWhy ?? '', n.name).not.toMatch(/^no corner fails it/);
+      if (n.status === 'pass' && n.basis === 'bounds') expect(n.witnessWhy, n.name).toMatch(/bounds keep the required margin/);
+    }
+  });
+
+  it('says a re-solved witness of a level past its logic threshold is on the wrong side of it, in words', () => {
+    const d = demo('nets/irrigation-sequencer.tube');
+    const valve = checkOf(d).nets.find((n) => n.name === 'valve[3]')!;
+    const again = reproduceWitness(d, valve.witness!);
+    expect(again.reproduced).toBe(true);
+    expect(again.seen).toMatch(/its low level on the wrong side of its logic threshold 12\.000 V/);
+  });
+});
