@@ -525,20 +525,38 @@ export class LevelChain {
   /**
    * What each parameter's place at a case's worst vertex does to the level there: the
    * level at the vertex minus the level with that one parameter back at nominal (one local
-   * solve each; 0 where that does not solve). Unlike the slopes, the sign is the move's
-   * own, also where a corner, not the slope, put the parameter at its end.
+   * solve each, for the `SHARES` parameters of largest linearised effect; 0 for the rest
+   * and where a solve fails). Unlike the slopes, the sign is the move's own, also where a
+   * corner, not the slope, put the parameter at its end.
    */
   sharesAt(c: LevelCase, r: CaseResult): Float64Array | undefined {
-    if (!r.vertex || r.worst === undefined) return undefined;
+    const { vertex, worst } = r;
+    if (!vertex || worst === undefined) return undefined;
+    // A result is shared by every case alike (same region kind, same levels around): so are its shares.
+    if (!this.shares.has(r)) this.shares.set(r, this.sharesOf(c, r.bands, vertex, worst, r.effects));
+    return this.shares.get(r);
+  }
+
+  private readonly shares = new WeakMap<CaseResult, Float64Array | undefined>();
+
+  /** Shares worked out at most, for the parameters whose linearised effect is largest (a wide fan-out's region has thousands). */
+  private static readonly SHARES = 8;
+
+  private sharesOf(c: LevelCase, bands: readonly Band[], vertex: Float64Array, worst: number, effects: Float64Array | undefined): Float64Array | undefined {
+    const ranked = bands.map((_, i) => i).sort((a, b) => Math.abs(effects?.[b] ?? 0) - Math.abs(effects?.[a] ?? 0));
+    const wanted = new Set(ranked.slice(0, LevelChain.SHARES));
     const problem = this.caseProblem(c, this.nets.get(c.net)!);
-    const values = Float64Array.from(r.vertex);
-    return Float64Array.from(r.bands, (b, i) => {
+    const values = Float64Array.from(vertex);
+    // Each solve starts from the vertex's own solution: one parameter moves at a time.
+    if (!problem.solve(values)) return undefined;
+    const at = Float64Array.from(problem.solution);
+    return Float64Array.from(bands, (b, i) => {
       const was = values[i]!;
-      if (was === b.nominal) return 0;
+      if (was === b.nominal || !wanted.has(i)) return 0;
       values[i] = b.nominal;
-      const v = problem.solve(values) ? problem.volts(problem.target) : undefined;
+      const v = problem.solveFrom(values, at) ? problem.volts(problem.target) : undefined;
       values[i] = was;
-      return v === undefined ? 0 : r.worst! - v;
+      return v === undefined ? 0 : worst - v;
     });
   }
 
