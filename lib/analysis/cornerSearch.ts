@@ -22,7 +22,7 @@ export const EXHAUSTIVE_PARAMETERS = 10;
 /** A witness names this many of its parameters as the ones that matter most. */
 export const WITNESS_KEY = 5;
 
-/** The whole design compiled once for one set of closed contacts, with its parameters (every part, rail and section of the design, scenario included). */
+/** The whole design compiled once, contacts at the design's positions, with its parameters (every part, rail and section of the design, scenario included). */
 export class WholeDesign {
   readonly problem: LocalProblem;
   readonly parameters: LocalParameter[];
@@ -32,10 +32,9 @@ export class WholeDesign {
     readonly design: Design,
     readonly graph: StageGraph,
     readonly scenario: AgeingScenario,
-    readonly close: ReadonlySet<string> = new Set(),
   ) {
     const region = buildRegion(indexDesign(design, graph), graph.nets.map((n) => n.name), [], undefined, Infinity);
-    this.problem = new LocalProblem(design, region, scenario, close);
+    this.problem = new LocalProblem(design, region, scenario);
     this.parameters = regionParameters(design, region, scenario);
     this.nominal = Float64Array.from(this.parameters, (p) => p.nominal);
     this.corners = 2 ** Math.min(EXHAUSTIVE_PARAMETERS, this.parameters.filter((p) => p.high > p.low).length);
@@ -49,14 +48,20 @@ export class WholeDesign {
     return this.problem.circuit.terminalOf.get(net)!;
   }
 
-  /** The state the hints ask for at nominal values, as the problem's unknowns; undefined when it does not exist there. */
-  state(hints: StateHint[]): Float64Array | undefined {
-    const op = solveOperatingPoint(this.design, { graph: this.graph, hints, close: this.close });
+  /**
+   * The state the hints ask for at `values` (nominal when absent), solved as `solve` solves
+   * it, as the problem's unknowns; undefined when it does not exist there. Where Newton
+   * from a neighbouring corner fails, this (with its continuation) can still find it.
+   */
+  state(hints: StateHint[], values: Float64Array = this.nominal): Float64Array | undefined {
+    const at = values === this.nominal ? { design: this.design, variation: undefined } : designAtValues(this.design, this.named(values));
+    const op = solveOperatingPoint(at.design, { graph: this.graph, hints, ...(at.variation ? { variation: at.variation } : {}) });
     if (!('nodes' in op) || !op.converged || op.hints.some((h) => !h.held)) return undefined;
     const c = this.problem.circuit;
-    const x = new Float64Array(c.n);
-    c.nodeNames.forEach((name, i) => (x[i] = op.nodes.get(name) ?? 0));
-    return this.problem.solveFrom(this.nominal, x) ? Float64Array.from(this.problem.solution) : undefined;
+    // By name, internal nodes (a diode's junction, a cathode behind its interface) included: started at 0 V, a latch can slide to its balance point.
+    const solved = new Map(op.system.circuit.nodeNames.map((name, i) => [name, op.x[i]!]));
+    const x = Float64Array.from(c.nodeNames, (name) => solved.get(name) ?? op.nodes.get(name) ?? 0);
+    return this.problem.solveFrom(values, x) ? Float64Array.from(this.problem.solution) : undefined;
   }
 
   /** Parameter values by the design's own names (ohms, volts, emission factors): a witness's `values`. */
@@ -233,6 +238,7 @@ export function walkCorners(
   solveAt: (values: Float64Array, from: Float64Array) => boolean,
   stop: () => boolean,
   visit: () => void,
+  rescue?: (values: Float64Array) => boolean,
 ): { lost: Float64Array | undefined; solved: number; complete: boolean } {
   let lost: Float64Array | undefined;
   let from = Float64Array.from(start);
@@ -247,7 +253,7 @@ export function walkCorners(
       const i = free[31 - Math.clz32(g & -g)]!;
       values[i] = values[i] === bands[i]!.low ? bands[i]!.high : bands[i]!.low;
     }
-    if (!solveAt(values, from) && !solveAt(values, start)) {
+    if (!solveAt(values, from) && !solveAt(values, start) && !rescue?.(values)) {
       lost ??= Float64Array.from(values);
       continue;
     }
@@ -267,7 +273,7 @@ export function latchCorners(w: WholeDesign, latch: [string, string], cap = Infi
   // solved as `solve` solves it from the state's hint, loses it there too.
   const confirmed = (values: Float64Array, high: string) => {
     const at = designAtValues(w.design, w.named(values));
-    const op = solveOperatingPoint(at.design, { graph: w.graph, hints: [{ net: high, high: true }], close: w.close, variation: at.variation });
+    const op = solveOperatingPoint(at.design, { graph: w.graph, hints: [{ net: high, high: true }], variation: at.variation });
     return !('nodes' in op) || !op.converged || !stateHolds(w.design, op.nodes, high, high === latch[0] ? latch[1] : latch[0]);
   };
   const [a, b] = latch;
@@ -355,10 +361,19 @@ export class CornerBudget {
 }
 
 
-/** Every contact's position in a witness: as the design sets it, and those in `close` closed. */
-export function positionsOf(design: Design, close: ReadonlySet<string>): Record<string, 'closed' | 'open'> {
+/**
+ * The design with its contacts at the positions given (a switch the design closes may be
+ * opened, an open one or a button closed); those not named keep the design's own.
+ */
+export function withPositions(design: Design, positions: Readonly<Record<string, 'closed' | 'open'>>): Design {
+  const moved = design.parts.some((p) => p.type === 'switch' && positions[p.name] !== undefined && (positions[p.name] === 'closed') !== p.closed);
+  return moved ? { ...design, parts: design.parts.map((p) => (p.type === 'switch' && positions[p.name] !== undefined ? { ...p, closed: positions[p.name] === 'closed' } : p)) } : design;
+}
+
+/** The position of every contact, for a witness, with those in `moved` moved from the design's own (a closed switch opened, an open one or a button closed). */
+export function positionsAfter(design: Design, moved: readonly string[] = []): Record<string, 'closed' | 'open'> {
   const out: Record<string, 'closed' | 'open'> = {};
-  for (const p of design.parts) if (p.type === 'switch') out[p.name] = p.closed || close.has(p.name) ? 'closed' : 'open';
+  for (const p of design.parts) if (p.type === 'switch') out[p.name] = p.closed !== moved.includes(p.name) ? 'closed' : 'open';
   return out;
 }
 
@@ -386,7 +401,7 @@ export function decideLatch(w: WholeDesign, l: LatchResult, budget: CornerBudget
     l.witness = {
       values: w.named(found.lost.values),
       key: found.lost.ranked.slice(0, WITNESS_KEY).map((i) => witnessName(w.parameters[i]!)),
-      positions: positionsOf(w.design, w.close),
+      positions: positionsAfter(w.design),
       states: { [found.lost.high]: 'high', [low]: 'low' },
       shows: `the state with ${found.lost.high} high and ${low} low does not exist${found.lost.values.every((v, i) => v === w.nominal[i]) ? ' even at nominal values' : ''}: the whole design, started in it, settles elsewhere`,
     };
@@ -414,15 +429,14 @@ export interface Reproduction {
 
 /**
  * Solves the whole design at a witness, as `solve` solves it (the latch states it names
- * as hints, its closed contacts pressed), and says whether the failure is there: for a
+ * as hints, its contacts at the positions it gives), and says whether the failure is there: for a
  * level, the net at the level it names (within a millivolt) on the wrong side of what it
  * is judged against; for a latch state, the state not held.
  */
 export function reproduceWitness(design: Design, witness: Witness, graph?: StageGraph): Reproduction {
-  const at = designAtValues(design, witness.values);
-  const close = new Set(Object.entries(witness.positions).flatMap(([k, p]) => (p === 'closed' ? [k] : [])));
+  const at = designAtValues(withPositions(design, witness.positions), witness.values);
   const hints = Object.entries(witness.states).map(([net, s]) => ({ net, high: s === 'high' }));
-  const op = solveOperatingPoint(at.design, { ...(graph ? { graph } : {}), hints, close, variation: at.variation });
+  const op = solveOperatingPoint(at.design, { ...(graph ? { graph } : {}), hints, variation: at.variation });
   if (!('nodes' in op)) return { op: undefined, reproduced: false, seen: op.diagnostics.map((d) => d.message).join('; '), unknown: at.unknown };
   const level = witness.level;
   if (level) {

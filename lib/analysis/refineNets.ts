@@ -3,7 +3,7 @@ import type { StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold, type StateHint } from '../solve/operatingPoint.js';
 import type { AgeingScenario } from './ageing.js';
 import type { NetCheck, ReceiverMargin } from './check.js';
-import { CornerBudget, decideLatch, INTERFACE_SUFFIX, latchHeld, positionsOf, searchCorners, WholeDesign, WITNESS_KEY, witnessName, type LatchState, type Witness } from './cornerSearch.js';
+import { CornerBudget, decideLatch, INTERFACE_SUFFIX, latchHeld, positionsAfter, searchCorners, WholeDesign, WITNESS_KEY, witnessName, withPositions, type LatchState, type Witness } from './cornerSearch.js';
 import type { LatchResult } from './latchCheck.js';
 import type { LevelChain } from './levelChain.js';
 import { receiverThresholds, sweepCurve, sweepRange } from './receiverThresholds.js';
@@ -25,41 +25,40 @@ import { P } from '../models/tubeEquations.js';
 /** Whole-design states tried at most per net (contact positions times latch states); past it the bound's verdict stands as undecided. */
 export const MAX_WHOLE_STATES = 32;
 
-/** One state of the whole design: contacts closed besides those the design closes, and the latch hints. */
+/** One state of the whole design: the contacts moved from the design's own positions (a switch the design closes opened, any other closed, a button pressed), and the latch hints. */
 export interface WholeState {
-  close: string[];
+  moved: string[];
   hints: StateHint[];
 }
 
 /**
- * The states a net's level is looked for in: every contact at rest and each one closed
- * alone, times every combination of latch states (each latch's first net high or low;
+ * The states a net's level is looked for in: every contact as the design sets it and each
+ * one moved alone, times every combination of latch states (each latch's first net high or low;
  * with more than three latches, all low and all high). Undefined past `MAX_WHOLE_STATES`.
  */
 export function wholeStates(design: Design, graph: StageGraph): WholeState[] | undefined {
-  const contacts = [[], ...design.parts.filter((p) => p.type === 'switch' && !p.closed).map((p) => [p.name])];
+  const contacts = [[], ...design.parts.filter((p) => p.type === 'switch').map((p) => [p.name])];
   const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => l.nets[0]!);
   const patterns = latches.length <= 3 ? Array.from({ length: 2 ** latches.length }, (_, m) => latches.map((net, i) => ({ net, high: (m & (1 << i)) !== 0 }))) : [false, true].map((high) => latches.map((net) => ({ net, high })));
   if (contacts.length * patterns.length > MAX_WHOLE_STATES) return undefined;
-  return contacts.flatMap((close) => patterns.map((hints) => ({ close, hints })));
+  return contacts.flatMap((moved) => patterns.map((hints) => ({ moved, hints })));
 }
 
 /** States (contact combinations times latch states) that `everyState` lists at most. */
 export const MAX_EVERY_STATES = 16;
 
 /**
- * Every state of the design: each combination of its contacts (closed or at rest) times
- * each combination of its latches' states. Undefined for a design with a loop that is not
- * a latch, with a switch the design closes (its open position is not listed yet), or with
- * more than `MAX_EVERY_STATES` states.
+ * Every state of the design: each combination of its contacts' positions (closed or open,
+ * pressed or not) times each combination of its latches' states. Undefined for a design
+ * with a loop that is not a latch, or with more than `MAX_EVERY_STATES` states.
  */
 export function everyState(design: Design, graph: StageGraph): WholeState[] | undefined {
-  if (graph.loops.some((l) => l.kind !== 'latch') || design.parts.some((p) => p.type === 'switch' && p.closed)) return undefined;
-  const contacts = design.parts.filter((p) => p.type === 'switch' && !p.closed).map((p) => p.name);
+  if (graph.loops.some((l) => l.kind !== 'latch')) return undefined;
+  const contacts = design.parts.filter((p) => p.type === 'switch').map((p) => p.name);
   const latches = graph.loops.map((l) => l.nets[0]!);
   if (2 ** (contacts.length + latches.length) > MAX_EVERY_STATES) return undefined;
   const subsets = <T>(items: T[]): T[][] => Array.from({ length: 2 ** items.length }, (_, m) => items.filter((_, i) => (m & (1 << i)) !== 0));
-  return subsets(contacts).flatMap((close) => subsets(latches).map((up) => ({ close, hints: latches.map((net) => ({ net, high: up.includes(net) })) })));
+  return subsets(contacts).flatMap((moved) => subsets(latches).map((up) => ({ moved, hints: latches.map((net) => ({ net, high: up.includes(net) })) })));
 }
 
 /**
@@ -134,17 +133,18 @@ export class Refiner {
     });
   }
 
-  whole(close: readonly string[]): WholeDesign {
-    const key = close.join('\u0000');
+  /** The whole design with the contacts `moved` from the design's own positions. */
+  whole(moved: readonly string[]): WholeDesign {
+    const key = moved.join('\u0000');
     let w = this.wholes.get(key);
-    if (!w) this.wholes.set(key, (w = new WholeDesign(this.design, this.graph, this.scenario, new Set(close))));
+    if (!w) this.wholes.set(key, (w = new WholeDesign(withPositions(this.design, positionsAfter(this.design, moved)), this.graph, this.scenario)));
     return w;
   }
 
   /** The state's solution at nominal values (undefined where it does not exist). */
   start(s: WholeState): Float64Array | undefined {
-    const key = `${s.close.join('\u0000')}|${s.hints.map((h) => `${h.net}=${h.high}`).join(',')}`;
-    if (!this.starts.has(key)) this.starts.set(key, this.whole(s.close).state(s.hints) ?? null);
+    const key = `${s.moved.join('\u0000')}|${s.hints.map((h) => `${h.net}=${h.high}`).join(',')}`;
+    if (!this.starts.has(key)) this.starts.set(key, this.whole(s.moved).state(s.hints) ?? null);
     return this.starts.get(key) ?? undefined;
   }
 
@@ -171,7 +171,7 @@ export class Refiner {
     let corners = 0;
     let exhaustive = true;
     for (const s of this.states!) {
-      const w = this.whole(s.close);
+      const w = this.whole(s.moved);
       // What a search would cost is known before any solve: past the budget, nothing is solved.
       if (!this.budget.affords(w, w.corners)) return undefined;
       const start = this.start(s);
@@ -216,7 +216,7 @@ export class Refiner {
     return {
       values: f.w.named(f.values),
       key: f.ranked.slice(0, WITNESS_KEY).map((i) => witnessName(f.w.parameters[i]!)),
-      positions: positionsOf(this.design, new Set(f.state.close)),
+      positions: positionsAfter(this.design, f.state.moved),
       states: Object.fromEntries(f.state.hints.map((h) => [h.net, h.high ? 'high' : 'low'])),
       shows,
       ...(level ? { level } : {}),
@@ -279,10 +279,10 @@ export class Refiner {
     };
     pair(model.name, n.name, 1);
     const state: WholeState = {
-      close: Object.entries(mw.positions).flatMap(([name, pos]) => (pos === 'closed' && !this.design.parts.some((p) => p.type === 'switch' && p.name === name && p.closed) ? [name] : [])),
+      moved: this.design.parts.flatMap((p) => (p.type === 'switch' && mw.positions[p.name] !== undefined && (mw.positions[p.name] === 'closed') !== p.closed ? [p.name] : [])),
       hints: Object.entries(mw.states).map(([net, v]) => ({ net, high: v === 'high' })),
     };
-    const w = this.whole(state.close);
+    const w = this.whole(state.moved);
     const start = this.start(state);
     if (!start || this.logicOf(w, state, start).get(n.name) !== high) return undefined;
     const named = (name: string) => {

@@ -1,6 +1,6 @@
 import { designNets, type Design } from '../design/model.js';
 import type { StageGraph } from '../graph/stageGraph.js';
-import { logicThreshold } from '../solve/operatingPoint.js';
+import { logicThreshold, type StateHint } from '../solve/operatingPoint.js';
 import type { AgeingScenario } from './ageing.js';
 import { CornerBudget, ITERATIONS_PER_CORNER, latchHeld, walkCorners, type WholeDesign } from './cornerSearch.js';
 import type { LevelChain } from './levelChain.js';
@@ -16,15 +16,21 @@ import { everyState, Refiner, stateLogic, type Seed } from './refineNets.js';
  * solved in every state of its contacts and latches, every rail and part taking one value
  * in each corner: the parameters that move the levels most are enumerated over every
  * corner, then each level's worst corner is searched inwards along every parameter whose
- * slope says the inside is worse (a divider's extreme can sit inside its band), and the
- * parameters left out of the enumeration add their whole linearised effect as an
- * allowance. The chain's bound is narrowed to that where it is tighter.
+ * slope says the inside is worse (a divider's extreme can sit inside its band). Where one
+ * enumeration per state cannot serve every net within the work allowed, each net gets its
+ * own, over fewer parameters (those that move it most; at least `MIN_NET_PARAMETERS`).
+ * The parameters left out of the enumeration add an allowance measured at the worst point
+ * found: what moving each of them to its other end does to the level there, and to what
+ * every other parameter could still add (their interaction, to first order in each). The
+ * chain's bound is narrowed to that where it is tighter.
  */
 
 /** Parameters enumerated over every corner, per state: 2^12 = 4,096 corners. */
 export const TIGHT_PARAMETERS = 12;
 /** Work (Newton iterations times unknowns) the enumeration may take in all. */
 export const TIGHT_WORK = 1_200_000;
+/** Where each net has an enumeration of its own: the fewest parameters it may enumerate; with fewer, the design is not narrowed. */
+export const MIN_NET_PARAMETERS = 6;
 /** A slope moving a level by less than this across its band (volts) is not searched along. */
 const POLISH_VOLTS = 1e-4;
 /** Moves of the inward search at most, per level. */
@@ -61,15 +67,20 @@ export function tightenLevels(design: Design, graph: StageGraph, scenario: Agein
   const states = everyState(design, graph);
   if (!states || !chain.settled) return undefined;
   const toleranced = designParameters(design).filter((p) => p.high > p.low).length;
-  const planned = states.length * 2 ** Math.min(TIGHT_PARAMETERS, toleranced) * ITERATIONS_PER_CORNER * designNets(design).length;
-  if (planned > TIGHT_WORK) return undefined;
+  const perCorner = ITERATIONS_PER_CORNER * designNets(design).length;
+  // One enumeration per state serves every net when it fits; otherwise each net gets its
+  // own, over the parameters that move it most, as many as the work allows.
+  const joint = states.length * 2 ** Math.min(TIGHT_PARAMETERS, toleranced) * perCorner <= TIGHT_WORK;
+  const nets = [...chain.nets.values()].filter((c) => c.polarity === 'inverting' || c.polarity === 'follower').length;
+  const free = joint ? TIGHT_PARAMETERS : Math.min(TIGHT_PARAMETERS, Math.floor(Math.log2(TIGHT_WORK / (states.length * nets * perCorner))));
+  if (free < MIN_NET_PARAMETERS) return undefined;
   const refiner = new Refiner(design, graph, scenario, chain, new CornerBudget(0));
   const levels = new Map<string, { high?: { bound: number; seed: Seed }; low?: { bound: number; seed: Seed } }>();
   const refused = new Set<string>();
   let corners = 0;
   let searched = 0;
   for (const s of states) {
-    const w = refiner.whole(s.close);
+    const w = refiner.whole(s.moved);
     const start = refiner.start(s);
     if (!start) continue;
     searched++;
@@ -91,7 +102,7 @@ export function tightenLevels(design: Design, graph: StageGraph, scenario: Agein
       }
       judged.push({ net, terminal: t, high });
     }
-    const r = searchState(w, start, refiner.latchStates(w, s), judged, TIGHT_WORK * 2);
+    const r = searchState(w, s.hints, start, refiner.latchStates(w, s), judged, TIGHT_WORK * 2, free, joint);
     corners += r.corners;
     for (const j of judged) {
       const level = j.high ? 'high' : 'low';
@@ -122,17 +133,21 @@ export function tightenLevels(design: Design, graph: StageGraph, scenario: Agein
 }
 
 /**
- * One state of the whole design searched for every judged net at once: the parameters
- * that move the nets most (each net's slopes at nominal, relative to the net's own total)
- * enumerated over every corner, then each net's worst corner searched inwards. A net has
- * no answer when the state was lost at a corner or the work ran out.
+ * One state of the whole design searched for its judged nets: the `free` parameters that
+ * move the nets most (by their slopes at nominal, relative to each net's own total)
+ * enumerated over every corner, once for every net (`joint`) or once per net over its own,
+ * then each net's worst corner searched inwards. A net has no answer when the state was
+ * lost at a corner or the work ran out.
  */
 function searchState(
   w: WholeDesign,
+  hints: StateHint[],
   start: Float64Array,
   latches: { high: number; low: number; threshold: number }[],
   judged: { net: string; terminal: number; high: boolean }[],
   cap: number,
+  free: number,
+  joint: boolean,
 ): { found: Map<string, LevelFound>; corners: number } {
   const problem = w.problem;
   const bands = w.parameters;
@@ -141,6 +156,11 @@ function searchState(
   const work = () => (problem.system.iterationCount - iterations) * problem.circuit.n;
   const inState = () => latches.every((l) => latchHeld(problem.volts(l.high), problem.volts(l.low), l.threshold));
   const solveAt = (values: Float64Array, from: Float64Array): boolean => problem.solveFrom(values, from) && inState();
+  // A corner Newton misses from its neighbours is solved afresh, as `solve` would, before the state counts as lost there.
+  const rescue = (values: Float64Array): boolean => {
+    const x = w.state(hints, values);
+    return x !== undefined && solveAt(values, x);
+  };
   if (judged.length === 0 || !solveAt(w.nominal, start)) return { found, corners: 0 };
   const nominal = Float64Array.from(problem.solution);
   // Each net's slopes at nominal, as effects across the bands, worse-ward positive.
@@ -148,37 +168,95 @@ function searchState(
     const s = problem.slopesAt(j.terminal);
     return Float64Array.from(bands, (b, i) => (s ? (j.high ? -1 : 1) * s[i]! * (b.high - b.low) : 0));
   });
-  const importance = bands.map((_, i) => Math.max(0, ...effects.map((e) => Math.abs(e[i]!) / (e.reduce((a, x) => a + Math.abs(x), 0) || 1))));
   const varied = bands.map((b, i) => i).filter((i) => bands[i]!.high > bands[i]!.low);
-  varied.sort((a, b) => importance[b]! - importance[a]!);
-  const free = varied.slice(0, TIGHT_PARAMETERS);
-  const rest = varied.slice(TIGHT_PARAMETERS);
-  // The parameters left out sit where the net that cares most about them has its worst.
-  const values = Float64Array.from(w.nominal);
-  for (const i of rest) {
-    const e = effects.reduce((best, x) => (Math.abs(x[i]!) > Math.abs(best[i]!) ? x : best));
-    values[i] = e[i]! >= 0 ? bands[i]!.high : bands[i]!.low;
-  }
-  for (const i of free) values[i] = bands[i]!.low;
-  const worst = judged.map(() => ({ value: NaN, at: values }));
-  const walk = walkCorners(problem, values, free, bands, nominal, solveAt, () => work() > cap, () => {
-    judged.forEach((j, k) => {
-      const v = problem.volts(j.terminal);
-      const was = worst[k]!.value;
-      if (Number.isNaN(was) || (j.high ? v < was : v > was)) worst[k] = { value: v, at: Float64Array.from(values) };
+  const groups = joint ? [judged.map((_, k) => k)] : judged.map((_, k) => [k]);
+  let corners = 0;
+  for (const group of groups) {
+    const importance = bands.map((_, i) => Math.max(0, ...group.map((k) => Math.abs(effects[k]![i]!) / (effects[k]!.reduce((a, x) => a + Math.abs(x), 0) || 1))));
+    const order = [...varied].sort((a, b) => importance[b]! - importance[a]!);
+    const enumerated = order.slice(0, free);
+    const rest = order.slice(free);
+    // The parameters left out sit where the net that cares most about them has its worst.
+    const values = Float64Array.from(w.nominal);
+    for (const i of rest) {
+      const e = group.map((k) => effects[k]!).reduce((best, x) => (Math.abs(x[i]!) > Math.abs(best[i]!) ? x : best));
+      values[i] = e[i]! >= 0 ? bands[i]!.high : bands[i]!.low;
+    }
+    for (const i of enumerated) values[i] = bands[i]!.low;
+    const worst = group.map(() => ({ value: NaN, at: values }));
+    const walk = walkCorners(problem, values, enumerated, bands, nominal, solveAt, () => work() > cap, () => {
+      group.forEach((k, g) => {
+        const j = judged[k]!;
+        const v = problem.volts(j.terminal);
+        const was = worst[g]!.value;
+        if (Number.isNaN(was) || (j.high ? v < was : v > was)) worst[g] = { value: v, at: Float64Array.from(values) };
+      });
+    }, rescue);
+    corners += walk.solved;
+    if (walk.lost) return { found: new Map(), corners };
+    if (!walk.complete) continue;
+    group.forEach((k, g) => {
+      const j = judged[k]!;
+      const sign = j.high ? -1 : 1;
+      const p = polish(problem, bands, worst[g]!.at, nominal, j.terminal, sign, solveAt);
+      if (!p) return;
+      const allowance = restAllowance(problem, bands, varied, rest, p, j.terminal, sign, solveAt);
+      if (allowance === undefined) return;
+      const effect = (i: number) => Math.abs(p.slopes[i]! * (bands[i]!.high - bands[i]!.low));
+      const ranked = [...varied].sort((a, b) => effect(b) - effect(a));
+      found.set(j.net, { found: p.value, bound: j.high ? p.value - allowance : p.value + allowance, at: p.values, ranked, exact: rest.length === 0 });
     });
-  });
-  if (walk.lost || !walk.complete) return { found, corners: walk.solved };
-  judged.forEach((j, k) => {
-    const p = polish(problem, bands, worst[k]!.at, nominal, j.terminal, j.high ? -1 : 1, solveAt);
-    if (!p) return;
-    // The parameters not enumerated may sit at the wrong end for this net: their whole linearised effect is allowed for.
-    const effect = (i: number) => Math.abs(p.slopes[i]! * (bands[i]!.high - bands[i]!.low));
-    const allowance = rest.reduce((a, i) => a + effect(i), 0);
-    const ranked = [...varied].sort((a, b) => effect(b) - effect(a));
-    found.set(j.net, { found: p.value, bound: j.high ? p.value - allowance : p.value + allowance, at: p.values, ranked, exact: rest.length === 0 });
-  });
-  return { found, corners: walk.solved };
+  }
+  return { found, corners };
+}
+
+/**
+ * What the parameters left out of the enumeration (`rest`) could still add to a level
+ * beyond the worst point `p` found (volts, worse-ward), by a bilinear model of the level
+ * measured at `p`: each left-out parameter is moved to its band's other end in turn, and
+ * what that move does to the level itself (usually better: `p` sits at the end its slope
+ * says is worse) plus what it gives every other parameter to gain (the worse-ward effect
+ * of moving that one from where it sits, after the move less before) is its share, where
+ * positive. Summed over the left-out parameters this covers every combination of them
+ * under the model, each interaction counted from both sides. Undefined when a move does
+ * not solve.
+ */
+function restAllowance(
+  problem: WholeDesign['problem'],
+  bands: readonly { low: number; high: number }[],
+  varied: readonly number[],
+  rest: readonly number[],
+  p: { value: number; values: Float64Array; slopes: Float64Array },
+  terminal: number,
+  sign: number,
+  solveAt: (values: Float64Array, from: Float64Array) => boolean,
+): number | undefined {
+  if (rest.length === 0) return 0;
+  if (!solveAt(p.values, Float64Array.from(problem.solution))) return undefined;
+  const at = Float64Array.from(problem.solution);
+  const values = Float64Array.from(p.values);
+  // How much worse the level gets by moving parameter k from where it sits to the end its slope says is worse.
+  const gain = (slopes: Float64Array, k: number) => {
+    const b = bands[k]!;
+    const d = sign * slopes[k]!;
+    return Math.max(0, d * (b.high - values[k]!), -d * (values[k]! - b.low));
+  };
+  const before = Float64Array.from(varied, (k) => gain(p.slopes, k));
+  let allowance = 0;
+  for (const i of rest) {
+    const b = bands[i]!;
+    const was = values[i]!;
+    values[i] = was - b.low > b.high - was ? b.low : b.high;
+    const slopes = solveAt(values, at) ? problem.slopesAt(terminal) : undefined;
+    if (!slopes) return undefined;
+    let share = sign * problem.volts(terminal) - sign * p.value;
+    values[i] = was;
+    varied.forEach((k, n) => {
+      if (k !== i) share += Math.max(0, gain(slopes, k) - before[n]!);
+    });
+    allowance += Math.max(0, share);
+  }
+  return allowance;
 }
 
 /**
