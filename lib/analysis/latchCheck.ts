@@ -55,8 +55,9 @@ export interface LatchResult {
  * level, with the trigger margin.
  *
  * The butterfly is drawn from the two receiving stages' transfer curves (each with its
- * own divider and loading, from the local solves); its worst SNM is the smallest over the
- * four combinations of each curve's early and late corner. The trigger is found on the
+ * own divider and loading, from the local solves); its worst SNM is the smallest over
+ * every pair of each curve's extreme corners (`ReceiverThresholds.extremes`: shifted
+ * furthest either way, and the lowest VIL and highest VIH). The trigger is found on the
  * latch's own region (both stages, their dividers and what they feed, every other net held)
  * solved whole, with the parameters at the vertex that makes the pulled net's low level
  * highest, by continuation of the rising input (see `triggerMargin`).
@@ -76,8 +77,8 @@ export function latchCheck(chain: LevelChain, latch: [string, string]): LatchRes
     const found = chain.memo(`butterfly|${t1.key}|${t2.key}`, () => {
       const nominal = staticNoiseMargin(t1.curves.nominal, t2.curves.nominal);
       let worst = nominal;
-      for (const c1 of [t1.curves.early, t1.curves.late]) {
-        for (const c2 of [t2.curves.early, t2.curves.late]) {
+      for (const c1 of t1.extremes) {
+        for (const c2 of t2.extremes) {
           const r = staticNoiseMargin(c1, c2);
           if (worst.bistable && (!r.bistable || r.snm < worst.snm)) worst = r;
         }

@@ -15,6 +15,12 @@ export interface ReceiverThresholds {
   vilMin: number | undefined;
   vihMax: number | undefined;
   curves: { nominal: TransferCurve; early: TransferCurve; late: TransferCurve };
+  /**
+   * The curves at the corners the linearised sensitivity picks (shifted furthest left and
+   * right) as well as the early and late ones: a latch's worst butterfly is the smallest
+   * over every pair of them.
+   */
+  extremes: TransferCurve[];
   /** The parameter values of the early and late curves, in the order of the stage's region parameters (the swept level at 0). */
   corners: { early: Float64Array; late: Float64Array };
   /** Identifies the curves: receivers with equal keys have equal curves. */
@@ -55,10 +61,10 @@ export function sweepCurve(problem: LocalProblem, values: Float64Array, swept: n
  * The transfer curve of a receiving stage as a function of the net that drives it, with
  * the stage's own divider, plate load and the grids it feeds in place (its local region),
  * its other inputs low; and from it the unity-gain input thresholds VIL and VIH (Hodges
- * and Jackson). In worst case the curve is taken at two corners chosen by the linearised
- * sensitivity of the output at the middle of the input swing: the corner that pulls the
- * output down (the stage switches early: lowest VIL) and the one that holds it up (late:
- * highest VIH). Undefined for a receiver that is not an inverting stage, or whose stage
+ * and Jackson). In worst case the curve is taken at two corners of the stage's bands: the
+ * one with the lowest VIL (early) and the one with the highest VIH (late), each searched
+ * from the corner the linearised sensitivity of the output at the middle of the input
+ * swing picks (`extremeCorner`). Undefined for a receiver that is not an inverting stage, or whose stage
  * can never go high (another input holds it low).
  */
 export function receiverThresholds(chain: LevelChain, driving: string, receiver: Receiver): ReceiverThresholds | undefined {
@@ -81,20 +87,70 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
     if (!at) return undefined;
     const corner = (down: boolean) =>
       Float64Array.from(bands, (b, i) => (i === swept ? 0 : (at.slopes[i]! > 0) === down ? b.low : b.high));
-    const sweep = (values: Float64Array) => sweepCurve(problem, values, swept, from, to);
-    const corners = { early: corner(true), late: corner(false) };
-    const curves = { nominal: sweep(nominal), early: sweep(Float64Array.from(corners.early)), late: sweep(Float64Array.from(corners.late)) };
-    if (!curves.nominal || !curves.early || !curves.late) return undefined;
-    const early = unityGainPoints(curves.early.vin, curves.early.vout);
-    const late = unityGainPoints(curves.late.vin, curves.late.vout);
+    const nominalCurve = sweepCurve(problem, nominal, swept, from, to);
+    const early = extremeCorner(problem, bands, swept, { from, to }, corner(true), 'vil');
+    const late = extremeCorner(problem, bands, swept, { from, to }, corner(false), 'vih');
+    if (!nominalCurve || !early || !late) return undefined;
     return {
       key: memoKey(),
-      nominal: unityGainPoints(curves.nominal.vin, curves.nominal.vout),
-      vilMin: early?.vil,
-      vihMax: late?.vih,
-      curves: curves as ReceiverThresholds['curves'],
-      corners,
+      nominal: unityGainPoints(nominalCurve.vin, nominalCurve.vout),
+      vilMin: early.points?.vil,
+      vihMax: late.points?.vih,
+      curves: { nominal: nominalCurve, early: early.curve, late: late.curve },
+      extremes: [early.start, late.start, early.curve, late.curve].filter((c, i, all) => all.indexOf(c) === i),
+      corners: { early: early.values, late: late.values },
     };
   });
   return found && { stage: stage.name, section: receiver.section, ...found };
+}
+
+/** Rounds of the corner search for a threshold's extreme at most (each moves every parameter once). */
+export const THRESHOLD_ROUNDS = 4;
+
+/**
+ * The corner of a receiving stage's bands where a unity-gain point is most extreme (VIL
+ * lowest, or VIH highest), from the corner the linearised slopes pick: those points move
+ * with the curve's steepness as well as with its position, so a corner that shifts the
+ * curve earliest need not give the lowest VIL. Each part in turn is moved to its band's
+ * other end and kept there where that makes the point worse, for up to
+ * `THRESHOLD_ROUNDS` rounds or until no move does. Each corner tried is swept whole, and
+ * every part is tried: a point can jump to another stretch of the curve or sit on a short
+ * steep one, which coarser sweeps or a local search from the last point missed by volts
+ * in the oracle family, and parts that hardly move the output at the middle of the swing
+ * can still move it by volts. A corner whose gain never reaches 1 keeps its curve
+ * with no points (the stage cannot restore levels there). The curve at `start` comes
+ * back too. Undefined where a sweep does not solve.
+ */
+function extremeCorner(
+  problem: LocalProblem,
+  bands: readonly { low: number; high: number }[],
+  swept: number,
+  range: { from: number; to: number },
+  start: Float64Array,
+  which: 'vil' | 'vih',
+): { values: Float64Array; curve: TransferCurve; points: { vil: number; vih: number } | undefined; start: TransferCurve } | undefined {
+  const sign = which === 'vil' ? 1 : -1;
+  const at = (values: Float64Array) => {
+    const curve = sweepCurve(problem, Float64Array.from(values), swept, range.from, range.to);
+    return curve && { values, curve, points: unityGainPoints(curve.vin, curve.vout) };
+  };
+  const first = at(start);
+  if (!first?.points) return first && { ...first, start: first.curve };
+  const tried = bands.map((_, i) => i).filter((i) => i !== swept && bands[i]!.high > bands[i]!.low);
+  let best = first;
+  for (let round = 0; round < THRESHOLD_ROUNDS; round++) {
+    let moved = false;
+    for (const i of tried) {
+      const b = bands[i]!;
+      const values = Float64Array.from(best.values);
+      values[i] = values[i] === b.low ? b.high : b.low;
+      const t = at(values);
+      if (t?.points && sign * t.points[which] < sign * best.points![which]) {
+        best = t;
+        moved = true;
+      }
+    }
+    if (!moved) break;
+  }
+  return { ...best, start: first.curve };
 }

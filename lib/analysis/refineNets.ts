@@ -22,6 +22,9 @@ import { P } from '../models/tubeEquations.js';
  * Otherwise it is undecided.
  */
 
+/** Rounds of the margin witness search at most (each moves every part once). */
+export const MARGIN_ROUNDS = 3;
+
 /** Whole-design states tried at most per net (contact positions times latch states); past it the bound's verdict stands as undecided. */
 export const MAX_WHOLE_STATES = 32;
 
@@ -255,6 +258,57 @@ export class Refiner {
   }
 
   /**
+   * A witness of net `n`'s noise margin against one receiving stage falling short of
+   * `required` where no single worst point does (its worst level and its receiver's worst
+   * threshold sit at different corners, and a part that moves one moves the other: a
+   * receiving grid that clamps the net also sets where its stage switches). From the
+   * level's worst point, and from it with the receiving stage at its threshold's worst
+   * corner, each part in turn is moved to its band's other end and kept there where the
+   * margin (the level less VIH, or VIL less the level, both worked out at the same values)
+   * shrinks, up to `MARGIN_ROUNDS` rounds; the first point short of the requirement is
+   * judged by `levelWitness`. Undefined where none is found.
+   */
+  marginWitness(n: NetCheck, high: boolean, f: Found, required: number): Witness | undefined {
+    const w = f.w;
+    const bands = w.parameters;
+    const latches = this.latchStates(w, f.state);
+    const varied = bands.map((_, i) => i).filter((i) => bands[i]!.high > bands[i]!.low);
+    for (const rc of n.receivers) {
+      const margin = (values: Float64Array): number | undefined => {
+        if (!w.problem.solveFrom(values, f.start)) return undefined;
+        if (!latches.every((l) => latchHeld(w.problem.volts(l.high), w.problem.volts(l.low), l.threshold))) return undefined;
+        const volts = w.problem.volts(w.terminal(n.name));
+        const t = thresholdsAt(this.chain, w.named(values), (net) => w.problem.volts(w.terminal(net)), n.name, rc);
+        return t && (high ? volts - t.vih : t.vil - volts);
+      };
+      for (const from of [f, this.withReceiverCorner(f, n.name, rc, high)]) {
+        if (!from) continue;
+        let values = Float64Array.from(from.values);
+        let best = margin(values);
+        if (best === undefined) continue;
+        for (let round = 0; round < MARGIN_ROUNDS && best >= required; round++) {
+          let moved = false;
+          for (const i of varied) {
+            const b = bands[i]!;
+            const trial = Float64Array.from(values);
+            trial[i] = trial[i]! - b.low > b.high - trial[i]! ? b.low : b.high;
+            const m = margin(trial);
+            if (m !== undefined && m < best) {
+              [values, best, moved] = [trial, m, true];
+              if (best < required) break;
+            }
+          }
+          if (!moved) break;
+        }
+        if (best >= required || !w.problem.solveFrom(values, f.start)) continue;
+        const witness = this.levelWitness(n, high, { ...f, values, value: w.problem.volts(w.terminal(n.name)) }, required);
+        if (witness) return witness;
+      }
+    }
+    return undefined;
+  }
+
+  /**
    * A witness for net `n` by analogy with the level witness of `model`, a net of the same
    * class (an alike net the budget reached first): the model's witness with the values of
    * the parts around the two nets exchanged, part for part (their regions, and those of the
@@ -357,7 +411,7 @@ export class Refiner {
         continue;
       }
       found[q] = f.value;
-      witness ??= this.levelWitness(n, high, f, required);
+      witness ??= this.levelWitness(n, high, f, required) ?? this.marginWitness(n, high, f, required);
       // Cleared for good only against the worst-case thresholds, which bound those of every corner.
       cleared &&= high ? f.value > threshold && (vihBound === undefined || f.value - vihBound >= required) : f.value < threshold && (vilBound === undefined || vilBound - f.value >= required);
     }

@@ -86,6 +86,28 @@ describe('witnesses of net failures', () => {
     expect(seen).toBeGreaterThan(0);
   });
 
+  it('are found for a margin that fails at no single worst point: the level and its receiver\'s VIH each worst at another corner', () => {
+    // Family latch 7: with every corner of the whole design solved and q's VIH (Hodges and
+    // Jackson's unity-gain point) worked out at each, nq's smallest high margin is −0.75 V
+    // against 1 V required (a study with the exhaustive oracle); the witness found must show
+    // one below 1 V that the whole design reproduces. Its worst high level (54.16 V, found
+    // exactly) was judged only against the highest VIH of any corner, and was UNDECIDED.
+    const fd = familyDesigns(2026015, 7)[6]!;
+    expect(fd.name).toBe('latch 7');
+    const d = familyDesign(fd);
+    const nq = checkOf(d).nets.find((n) => n.name === 'nq')!;
+    expect(nq.status).toBe('fail');
+    expect(nq.basis).toBe('witness');
+    expect(nq.witness!.level).toMatchObject({ net: 'nq', state: 'high', against: { what: 'VIH', stage: 'q' } });
+    expect(nq.witness!.level!.volts - nq.witness!.level!.against.volts).toBeLessThan(1);
+    expect(reproduceWitness(d, nq.witness!).reproduced).toBe(true);
+    // The same on the adder: x1's high level against x2's VIH, in the design as a builder has it.
+    const adder = demo('nets/nor-adder.tube');
+    const x1 = checkOf(adder).nets.find((n) => n.name === 'x1')!;
+    expect([x1.status, x1.basis, x1.witness?.level?.against.what]).toEqual(['fail', 'witness', 'VIH']);
+    expect(reproduceWitness(adder, x1.witness!).reproduced).toBe(true);
+  });
+
   it('are found for every one of a group of alike nets, each at its own parts, where the budget reached only the first', () => {
     // The irrigation sequencer's four valve drivers are one stage repeated (instance
     // array bed[1..4]); the adder's x2 and x3 are alike NOR gates. Alike nets get the same verdict.

@@ -50,7 +50,7 @@ describe('the README', () => {
         at = found + 1;
       }
     }
-  }, 300_000); // seventeen commands, a 2-D supply sweep of the crate tally among them: minutes on a busy 2-core machine
+  }, 1_200_000); // seventeen commands, a 2-D supply sweep of the crate tally among them (153 worst-case checks, each searching its receivers' threshold corners): minutes on a busy 2-core machine
 
   it('quotes design text that is really in the demo files (spacing aside)', () => {
     const squash = (t: string) => t.replace(/[ \t]+/g, ' ');
