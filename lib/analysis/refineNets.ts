@@ -265,8 +265,9 @@ export class Refiner {
    * level's worst point, and from it with the receiving stage at its threshold's worst
    * corner, each part in turn is moved to its band's other end and kept there where the
    * margin (the level less VIH, or VIL less the level, both worked out at the same values)
-   * shrinks, up to `MARGIN_ROUNDS` rounds; the first point short of the requirement is
-   * judged by `levelWitness`. Undefined where none is found.
+   * shrinks, up to `MARGIN_ROUNDS` rounds, its whole-design solves taken from the check's
+   * corner budget; the first point short of the requirement is judged by `levelWitness`.
+   * Undefined where none is found or the budget runs out.
    */
   marginWitness(n: NetCheck, high: boolean, f: Found, required: number): Witness | undefined {
     const w = f.w;
@@ -275,7 +276,11 @@ export class Refiner {
     const varied = bands.map((_, i) => i).filter((i) => bands[i]!.high > bands[i]!.low);
     for (const rc of n.receivers) {
       const margin = (values: Float64Array): number | undefined => {
-        if (!w.problem.solveFrom(values, f.start)) return undefined;
+        if (this.budget.left <= 0) return undefined;
+        const before = w.problem.system.iterationCount;
+        const solved = w.problem.solveFrom(values, f.start);
+        this.budget.spend((w.problem.system.iterationCount - before) * w.problem.circuit.n);
+        if (!solved) return undefined;
         if (!latches.every((l) => latchHeld(w.problem.volts(l.high), w.problem.volts(l.low), l.threshold))) return undefined;
         const volts = w.problem.volts(w.terminal(n.name));
         const t = thresholdsAt(this.chain, w.named(values), (net) => w.problem.volts(w.terminal(net)), n.name, rc);
@@ -411,9 +416,10 @@ export class Refiner {
         continue;
       }
       found[q] = f.value;
-      witness ??= this.levelWitness(n, high, f, required) ?? this.marginWitness(n, high, f, required);
-      // Cleared for good only against the worst-case thresholds, which bound those of every corner.
-      cleared &&= high ? f.value > threshold && (vihBound === undefined || f.value - vihBound >= required) : f.value < threshold && (vilBound === undefined || vilBound - f.value >= required);
+      // Cleared for good only against the worst-case thresholds, which bound those of every corner: then no margin search can fail it.
+      const clears = high ? f.value > threshold && (vihBound === undefined || f.value - vihBound >= required) : f.value < threshold && (vilBound === undefined || vilBound - f.value >= required);
+      witness ??= this.levelWitness(n, high, f, required) ?? (clears ? undefined : this.marginWitness(n, high, f, required));
+      cleared &&= clears;
     }
     if (witness) return { status: 'fail', basis: 'witness', found, witness, corners, reason: `at the corner of its witness, ${witness.shows}` };
     if (exhaustive && cleared && this.complete) {
