@@ -130,9 +130,9 @@ function extremeCorner(
   which: 'vil' | 'vih',
 ): { values: Float64Array; curve: TransferCurve; points: { vil: number; vih: number } | undefined; start: TransferCurve } | undefined {
   const sign = which === 'vil' ? 1 : -1;
-  const at = (values: Float64Array) => {
-    const curve = sweepCurve(problem, Float64Array.from(values), swept, range.from, range.to);
-    return curve && { values, curve, points: unityGainPoints(curve.vin, curve.vout) };
+  const at = (values: Float64Array, bound?: number) => {
+    const curve = bound === undefined ? sweepCurve(problem, Float64Array.from(values), swept, range.from, range.to) : trialCurve(problem, Float64Array.from(values), swept, range, which, bound);
+    return curve && curve !== 'no better' ? { values, curve, points: unityGainPoints(curve.vin, curve.vout) } : undefined;
   };
   const first = at(start);
   if (!first?.points) return first && { ...first, start: first.curve };
@@ -144,7 +144,7 @@ function extremeCorner(
       const b = bands[i]!;
       const values = Float64Array.from(best.values);
       values[i] = values[i] === b.low ? b.high : b.low;
-      const t = at(values);
+      const t = at(values, best.points![which]);
       if (t?.points && sign * t.points[which] < sign * best.points![which]) {
         best = t;
         moved = true;
@@ -153,4 +153,55 @@ function extremeCorner(
     if (!moved) break;
   }
   return { ...best, start: first.curve };
+}
+
+/**
+ * The transfer curve of a trial corner in `extremeCorner`, swept from the end its point
+ * `which` is measured from (VIL from the lowest input up, VIH from the highest down) and
+ * abandoned, as \`'no better'\`, as soon as the points swept show that the whole curve's
+ * point cannot pass \`bound\` (VIL below it, VIH above it): the first −1 crossing seen
+ * decides that, and without one the crossing still to come lies beyond the last midpoint
+ * swept. A curve that can pass it is swept whole, on the same points as \`sweepCurve\`, so
+ * the search keeps exactly the corners a whole sweep of each would: it only skips the part
+ * of a losing corner's curve that cannot change its verdict. Undefined where a point does
+ * not solve.
+ */
+export function trialCurve(problem: LocalProblem, values: Float64Array, swept: number, range: { from: number; to: number }, which: 'vil' | 'vih', bound: number): TransferCurve | 'no better' | undefined {
+  const n = SWEEP_POINTS;
+  const vin = new Array<number>(n);
+  const vout = new Array<number>(n);
+  const slope = (i: number) => (vout[i + 1]! - vout[i]!) / (vin[i + 1]! - vin[i]!);
+  const mid = (i: number) => (vin[i]! + vin[i + 1]!) / 2;
+  // Where the crossing between slopes i and i + 1 lies, as unityGainPoints interpolates it.
+  const crossing = (i: number) => {
+    const s0 = slope(i) + 1;
+    const s1 = slope(i + 1) + 1;
+    const t = s0 === s1 ? 0.5 : s0 / (s0 - s1);
+    return mid(i) + t * (mid(i + 1) - mid(i));
+  };
+  let better = false;
+  for (let j = 0; j < n; j++) {
+    const k = which === 'vil' ? j : n - 1 - j;
+    values[swept] = range.from + ((range.to - range.from) * k) / (n - 1);
+    if (!problem.solve(values)) return undefined;
+    vin[k] = values[swept]!;
+    vout[k] = problem.volts(problem.target);
+    if (better || j === 0) continue;
+    if (which === 'vil') {
+      // Slopes 0 … k − 1 known: VIL is the input where the slope first reaches −1.
+      const point = k === 1 ? (slope(0) <= -1 ? vin[0]! : undefined) : slope(k - 2) > -1 && slope(k - 1) <= -1 ? crossing(k - 2) : undefined;
+      if (point !== undefined) {
+        if (point >= bound) return 'no better';
+        better = true;
+      } else if (mid(k - 1) >= bound) return 'no better';
+    } else {
+      // Slopes k … n − 2 known: VIH is the input where the slope last leaves −1 (the top input where it never does).
+      const point = k < n - 2 && slope(k) <= -1 && slope(k + 1) > -1 ? crossing(k) : undefined;
+      if (point !== undefined) {
+        if (point <= bound) return 'no better';
+        better = true;
+      } else if (mid(k) <= bound && (slope(n - 2) > -1 || vin[n - 1]! <= bound)) return 'no better';
+    }
+  }
+  return { vin, vout };
 }

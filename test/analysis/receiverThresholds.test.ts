@@ -1,9 +1,13 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { familyDesigns } from '../../bench/family.js';
 import { familyDesign } from '../../bench/familyOracle.js';
 import { AGEING_SCENARIOS, buildStageGraph, checkMargins, LevelChain, WholeDesign } from '../../lib/index.js';
 import { positionsAfter, withPositions } from '../../lib/analysis/cornerSearch.js';
 import { thresholdsAt } from '../../lib/analysis/refineNets.js';
+import type { LocalProblem } from '../../lib/analysis/localProblem.js';
+import { SWEEP_POINTS, sweepCurve, trialCurve } from '../../lib/analysis/receiverThresholds.js';
+import { unityGainPoints } from '../../lib/analysis/unityGain.js';
 
 describe('worst-case receiver thresholds', () => {
   it('bound the unity-gain points of every corner of the whole design (lowest VIL, highest VIH), over a family of small designs', () => {
@@ -53,4 +57,46 @@ describe('worst-case receiver thresholds', () => {
     }
     expect(receivers).toBeGreaterThanOrEqual(10);
   }, 240_000);
+});
+
+describe('a trial corner swept only as far as it can matter', () => {
+  // A stand-in for a receiving stage's local problem: its output is a sum of falling
+  // tanh steps of the swept input (one step or two, with a shelf between: a slope that
+  // reaches −1, leaves it and reaches it again).
+  const steps = fc.array(fc.record({ at: fc.double({ min: 1, max: 9, noNaN: true }), height: fc.double({ min: 0.5, max: 12, noNaN: true }), width: fc.double({ min: 0.2, max: 4, noNaN: true }) }), { minLength: 1, maxLength: 2 });
+  const problemOf = (s: { at: number; height: number; width: number }[]) => {
+    let v = 0;
+    return {
+      target: 0,
+      solve: (values: ArrayLike<number>) => ((v = 20 - s.reduce((sum, x) => sum + x.height * (1 + Math.tanh((values[0]! - x.at) / x.width)), 0)), true),
+      volts: () => v,
+    } as unknown as LocalProblem;
+  };
+  it('gives the whole curve where its unity-gain point can pass the bound, and gives up only where it cannot', () => {
+    // Oracle: the whole sweep (sweepCurve) and the unity-gain points of Hodges and
+    // Jackson's definition (unityGainPoints) on it: VIL strictly below the bound, or VIH
+    // strictly above it, is the only case the search keeps.
+    fc.assert(
+      // The bound is drawn near the curve's own point (within ±1.5 V), where a wrong cut shows.
+      fc.property(steps, fc.integer({ min: -150, max: 150 }), fc.constantFrom<'vil' | 'vih'>('vil', 'vih'), (s, offset, which) => {
+        const range = { from: 0, to: 10 };
+        const whole = sweepCurve(problemOf(s), new Float64Array(1), 0, range.from, range.to)!;
+        const points = unityGainPoints(whole.vin, whole.vout);
+        const bound = (points?.[which] ?? 5) + offset / 100;
+        const passes = points !== undefined && (which === 'vil' ? points.vil < bound : points.vih > bound);
+        const trial = trialCurve(problemOf(s), new Float64Array(1), 0, range, which, bound);
+        if (passes) expect(trial).toEqual(whole);
+        else if (trial !== 'no better') expect(trial).toEqual(whole);
+      }),
+      { numRuns: 2000 },
+    );
+  });
+  it('stops early on a corner that cannot pass', () => {
+    // One step at 5 V: VIL and VIH lie either side of it; a bound of 1 V for VIL is out of reach.
+    let solves = 0;
+    const p = problemOf([{ at: 5, height: 8, width: 1 }]);
+    const counted = { target: 0, solve: (v: ArrayLike<number>) => (solves++, p.solve(v)), volts: () => p.volts(0) } as unknown as LocalProblem;
+    expect(trialCurve(counted, new Float64Array(1), 0, { from: 0, to: 10 }, 'vil', 1)).toBe('no better');
+    expect(solves).toBeLessThan(SWEEP_POINTS / 4);
+  });
 });
