@@ -138,19 +138,19 @@ function extremeCorner(
   if (!first?.points) return first && { ...first, start: first.curve };
   const tried = bands.map((_, i) => i).filter((i) => i !== swept && bands[i]!.high > bands[i]!.low);
   let best = first;
-  for (let round = 0; round < THRESHOLD_ROUNDS; round++) {
-    let moved = false;
-    for (const i of tried) {
-      const b = bands[i]!;
-      const values = Float64Array.from(best.values);
-      values[i] = values[i] === b.low ? b.high : b.low;
-      const t = at(values, best.points![which]);
-      if (t?.points && sign * t.points[which] < sign * best.points![which]) {
-        best = t;
-        moved = true;
-      }
-    }
-    if (!moved) break;
+  // Parts in turn, round after round; a part tried since the last move was tried at the
+  // values that stand, so the search ends a full turn after its last move.
+  let sinceMove = 0;
+  for (let k = 0; k < THRESHOLD_ROUNDS * tried.length && sinceMove < tried.length; k++) {
+    const i = tried[k % tried.length]!;
+    const b = bands[i]!;
+    const values = Float64Array.from(best.values);
+    values[i] = values[i] === b.low ? b.high : b.low;
+    const t = at(values, best.points![which]);
+    if (t?.points && sign * t.points[which] < sign * best.points![which]) {
+      best = t;
+      sinceMove = 1;
+    } else sinceMove++;
   }
   return { ...best, start: first.curve };
 }
