@@ -7,7 +7,7 @@ import { error, type Diagnostic } from '../source/diagnostic.js';
 import { AGEING_SCENARIOS, type AgeingScenario } from './ageing.js';
 import { fanoutHeadroom, MAX_EXTRA_LOADS, standardLoad, type StandardLoad } from './fanoutHeadroom.js';
 import { cutoffMargin, driveMargin, type GridMargin } from './gridMargins.js';
-import { LevelChain, type CaseResult, type ChainNet, type LevelCase } from './levelChain.js';
+import { LevelChain, type ChainNet } from './levelChain.js';
 import { latchCheck, type LatchResult } from './latchCheck.js';
 import type { Witness } from './cornerSearch.js';
 import { refineVerdicts, type RefineQuestion } from './refineNets.js';
@@ -400,14 +400,7 @@ function judgeNet(
 function causesOf(chain: LevelChain, net: ChainNet, what: 'high' | 'low' | 'cutoff'): Cause[] {
   // Found once per class, by parameter position; named for this net.
   const found = chain.memo(`causes|${chain.classOf(net.name)}|${what}`, () => {
-    const cases = chain.casesOf(net);
-    const list = what === 'low' ? cases.low : cases.high;
-    let worst: { c: LevelCase; r: CaseResult } | undefined;
-    const worse = (x: CaseResult) => (x.worst ?? (x.sense === 'min' ? -Infinity : Infinity)) * (x.sense === 'min' ? -1 : 1);
-    for (const c of list) {
-      const r = chain.solveCase(c);
-      if (!worst || worse(r) > worse(worst.r)) worst = { c, r };
-    }
+    const worst = chain.worstCaseOf(net, what === 'low' ? 'low' : 'high');
     const shares = worst && chain.sharesAt(worst.c, worst.r);
     if (!worst || !shares) return [];
     const r = worst.r;

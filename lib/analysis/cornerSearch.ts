@@ -8,6 +8,9 @@ import { designParameters } from './parameters.js';
 
 import { LocalProblem, regionParameters, type LocalParameter } from './localProblem.js';
 import type { LatchResult } from './latchCheck.js';
+import type { TransferCurve } from './staticNoiseMargin.js';
+import { sweepTransfer } from './transferCurve.js';
+import { unityGainPoints } from './unityGain.js';
 
 /**
  * Corners of the whole design: where the chained bounds cannot decide a question, the
@@ -107,6 +110,28 @@ export interface Witness {
   level?: { net: string; state: 'high' | 'low'; volts: number; against: { what: 'VIH' | 'VIL' | 'logic threshold'; volts: number; stage?: string }; required: number };
   /** For a section not cut off while its net is high: its grid against its cathode there, and its cutoff grid voltage at the same plate voltage. */
   grid?: { section: string; vgk: number; cutoff: number };
+  /**
+   * For a receiving stage whose gain never reaches 1: the net that drives it, held by a
+   * stiff source and swept from \`from\` to \`to\` in \`points\` steps with the rest of the
+   * design solved at each (\`sweepTransfer\`), and the steepest fall of the stage's output
+   * there (volts per volt, below 1): the stage cannot restore the levels it is given.
+   */
+  gain?: { net: string; stage: string; from: number; to: number; points: number; steepest: number };
+}
+
+/**
+ * The transfer curve a gain witness names, at its values, contacts and states, and its
+ * steepest fall (volts per volt); undefined where a point does not solve.
+ */
+export function gainCurveAt(design: Design, witness: Pick<Witness, 'values' | 'positions' | 'states'> & { gain: NonNullable<Witness['gain']> }): { curve: TransferCurve; steepest: number; unity: boolean } | undefined {
+  const { net, stage, from, to, points } = witness.gain;
+  const at = designAtValues(withPositions(design, witness.positions), witness.values);
+  const hints = Object.entries(witness.states).map(([n, s]) => ({ net: n, high: s === 'high' }));
+  const curve = sweepTransfer(at.design, { input: net, output: stage, from, to, points, variation: at.variation, hints });
+  if (!curve) return undefined;
+  let steepest = 0;
+  for (let i = 0; i + 1 < curve.vin.length; i++) steepest = Math.max(steepest, -(curve.vout[i + 1]! - curve.vout[i]!) / (curve.vin[i + 1]! - curve.vin[i]!));
+  return { curve, steepest, unity: unityGainPoints(curve.vin, curve.vout) !== undefined };
 }
 
 /**
@@ -332,6 +357,9 @@ export const CORNER_WORK = 1_200_000;
 /** Newton iterations a corner takes from its neighbour, as the budget plans (what it spends is what was taken). */
 export const ITERATIONS_PER_CORNER = 3;
 
+/** A design's nets, counted once per design. */
+const netCount = new WeakMap<Design, number>();
+
 /** The work of one search of a whole design, estimated once per design. */
 const searchWork = new WeakMap<Design, number>();
 
@@ -353,6 +381,13 @@ export class CornerBudget {
    * it: its nets stand for its unknowns, 2 to its toleranced parameters (at most
    * 2^`EXHAUSTIVE_PARAMETERS`) for the corners, `questions` searches.
    */
+  /** Whether `solves` solves of the whole of `design` could fit, judged before compiling it (its nets stand for its unknowns). */
+  couldSolve(design: Design, solves: number, iterations = ITERATIONS_PER_CORNER): boolean {
+    let nets = netCount.get(design);
+    if (nets === undefined) netCount.set(design, (nets = designNets(design).length));
+    return solves * iterations * nets <= this.left;
+  }
+
   couldAfford(design: Design, questions = 1): boolean {
     let work = searchWork.get(design);
     if (work === undefined) searchWork.set(design, (work = 2 ** Math.min(EXHAUSTIVE_PARAMETERS, designParameters(design).length) * ITERATIONS_PER_CORNER * designNets(design).length));
@@ -455,6 +490,13 @@ export function reproduceWitness(design: Design, witness: Witness, graph?: Stage
     const t = op.tubes.find((x) => x.name === grid.section);
     if (!t || !op.converged) return { op, reproduced: false, seen: `${grid.section} did not solve`, unknown: at.unknown };
     return { op, reproduced: Math.abs(t.vgk - grid.vgk) <= 1e-3 && t.vgk > grid.cutoff, seen: `${grid.section}'s grid at ${t.vgk.toFixed(3)} V against its cathode (the witness says ${grid.vgk.toFixed(3)} V), cutoff at ${grid.cutoff.toFixed(3)} V`, unknown: at.unknown };
+  }
+  const gain = witness.gain;
+  if (gain) {
+    const g = gainCurveAt(design, { ...witness, gain });
+    if (!g) return { op, reproduced: false, seen: `${gain.stage} did not solve with ${gain.net} held from ${gain.from.toFixed(3)} to ${gain.to.toFixed(3)} V`, unknown: at.unknown };
+    const seen = `${gain.stage} with ${gain.net} held from ${gain.from.toFixed(3)} to ${gain.to.toFixed(3)} V falls at most ${g.steepest.toFixed(3)} V per volt (the witness says ${gain.steepest.toFixed(3)}): ${g.unity ? 'its gain reaches 1' : 'its gain never reaches 1'}`;
+    return { op, reproduced: !g.unity, seen, unknown: at.unknown };
   }
   const latchNets = Object.keys(witness.states);
   if (latchNets.length === 2) {

@@ -492,6 +492,18 @@ export class LevelChain {
   }
 
   /** Solves one case of one net: nominal, and the worst vertex for its sense. */
+  /** The case that gives a net's worst high (or low) level, with its result: where its bound comes from. */
+  worstCaseOf(net: ChainNet, what: 'high' | 'low'): { c: LevelCase; r: CaseResult } | undefined {
+    const cases = this.casesOf(net);
+    let worst: { c: LevelCase; r: CaseResult } | undefined;
+    const worse = (x: CaseResult) => (x.worst ?? (x.sense === 'min' ? -Infinity : Infinity)) * (x.sense === 'min' ? -1 : 1);
+    for (const c of what === 'low' ? cases.low : cases.high) {
+      const r = this.solveCase(c);
+      if (!worst || worse(r) > worse(worst.r)) worst = { c, r };
+    }
+    return worst;
+  }
+
   solveCase(c: LevelCase, net: ChainNet = this.nets.get(c.net)!): CaseResult {
     const input = net.polarity === 'input';
     const on = input ? undefined : c.on;

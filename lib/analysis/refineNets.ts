@@ -3,10 +3,10 @@ import type { StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold, type StateHint } from '../solve/operatingPoint.js';
 import type { AgeingScenario } from './ageing.js';
 import type { NetCheck, ReceiverMargin } from './check.js';
-import { CornerBudget, decideLatch, INTERFACE_SUFFIX, latchHeld, positionsAfter, searchCorners, WholeDesign, WITNESS_KEY, witnessName, withPositions, type LatchState, type Witness } from './cornerSearch.js';
+import { CORNER_WORK, CornerBudget, decideLatch, gainCurveAt, ITERATIONS_PER_CORNER, INTERFACE_SUFFIX, latchHeld, positionsAfter, searchCorners, WholeDesign, WITNESS_KEY, witnessName, withPositions, type LatchState, type Witness } from './cornerSearch.js';
 import type { LatchResult } from './latchCheck.js';
-import type { LevelChain } from './levelChain.js';
-import { receiverThresholds, sweepCurve, sweepRange } from './receiverThresholds.js';
+import type { ChainNet, LevelChain } from './levelChain.js';
+import { receiverThresholds, sweepCurve, sweepRange, SWEEP_POINTS } from './receiverThresholds.js';
 import { unityGainPoints } from './unityGain.js';
 import { cutoffGrid } from './gridMargins.js';
 import { P } from '../models/tubeEquations.js';
@@ -113,6 +113,17 @@ export class Refiner {
   /** `states` are every state of the design (`everyState`), not a sample of them: only then can corners pass a net. */
   readonly complete: boolean;
 
+  /**
+   * The budget of the witnesses tried at one corner each (\`boundWitness\`, \`gainWitness\`),
+   * apart from the search's, so that they still run where one search spent that: a few
+   * solves of the whole design per net, which a design of thousands of stages cannot pay.
+   */
+  readonly spare = new CornerBudget(SPARE_WORK);
+  /** Receiving curves (\`ReceiverThresholds.key\`) a gain witness was looked for at and not found. */
+  private readonly flatShown = new Set<string>();
+  /** Classes of alike nets (\`NetCheck.classId\`) whose bound's corner was tried and showed no failure. */
+  private readonly boundShown = new Set<number>();
+
   constructor(
     readonly design: Design,
     readonly graph: StageGraph,
@@ -136,6 +147,21 @@ export class Refiner {
     });
   }
 
+  /**
+   * State \`s\` of the whole design and its solution at nominal values, where the spare
+   * budget can pay for \`solves\` more solves of it, and for finding the state the first
+   * time (\`STATE_SOLVES\`, charged then); \`'spent'\` when it cannot, undefined where the state
+   * does not exist.
+   */
+  private spareState(s: WholeState, solves: number, iterations = ITERATIONS_PER_CORNER): { w: WholeDesign; start: Float64Array } | 'spent' | undefined {
+    const fresh = !this.starts.has(this.stateKey(s));
+    if (!this.spare.couldSolve(this.design, solves * iterations + (fresh ? STATE_SOLVES * ITERATIONS_PER_CORNER : 0), 1)) return 'spent';
+    const w = this.whole(s.moved);
+    if (fresh) this.spare.spend(STATE_SOLVES * ITERATIONS_PER_CORNER * w.problem.circuit.n);
+    const start = this.start(s);
+    return start && { w, start };
+  }
+
   /** The whole design with the contacts `moved` from the design's own positions. */
   whole(moved: readonly string[]): WholeDesign {
     const key = moved.join('\u0000');
@@ -144,9 +170,13 @@ export class Refiner {
     return w;
   }
 
+  private stateKey(s: WholeState): string {
+    return `${s.moved.join('\u0000')}|${s.hints.map((h) => `${h.net}=${h.high}`).join(',')}`;
+  }
+
   /** The state's solution at nominal values (undefined where it does not exist). */
   start(s: WholeState): Float64Array | undefined {
-    const key = `${s.moved.join('\u0000')}|${s.hints.map((h) => `${h.net}=${h.high}`).join(',')}`;
+    const key = this.stateKey(s);
     if (!this.starts.has(key)) this.starts.set(key, this.whole(s.moved).state(s.hints) ?? null);
     return this.starts.get(key) ?? undefined;
   }
@@ -233,16 +263,29 @@ export class Refiner {
    * at `f`, then with the receiving stage's own parts moved to the corner that makes its
    * threshold worst (a weak driver and a strong receiver are different sections).
    */
-  levelWitness(n: NetCheck, high: boolean, f: Found, required: number): Witness | undefined {
+  levelWitness(n: NetCheck, high: boolean, f: Found, required: number, budget?: CornerBudget): Witness | undefined {
     const threshold = n.thresholdVolts;
     let failure: { at: Found; volts: number; against: NonNullable<Witness['level']>['against'] } | undefined;
     if (high ? f.value <= threshold : f.value >= threshold) failure = { at: f, volts: f.value, against: { what: 'logic threshold', volts: threshold } };
-    for (const rc of failure ? [] : n.receivers) {
-      const candidates = [f, this.withReceiverCorner(f, n.name, rc, high)].filter((c): c is Found => c !== undefined);
+    // Whole-design solves, charged to \`budget\` where one is given (a net feeding thousands of inputs has as many receiving corners); none once it is spent.
+    const charged = <T>(w: WholeDesign, work: () => T): T | undefined => {
+      if (budget && budget.left <= 0) return undefined;
+      const before = w.problem.system.iterationCount;
+      const result = work();
+      budget?.spend((w.problem.system.iterationCount - before) * w.problem.circuit.n);
+      return result;
+    };
+    let namedAtF: Record<string, number> | undefined;
+    // On a budget, alike receiving stages (one class, the same input) are one question: the first of them is asked.
+    const asked = new Set<string>();
+    const receivers = budget ? n.receivers.filter((rc) => !asked.has(`${this.chain.classOf(rc.stage)}|${rc.vilMin}|${rc.vihMax}`) && asked.add(`${this.chain.classOf(rc.stage)}|${rc.vilMin}|${rc.vihMax}`)) : n.receivers;
+    for (const rc of failure ? [] : receivers) {
+      const candidates = [f, charged(f.w, () => this.withReceiverCorner(f, n.name, rc, high))].filter((c): c is Found => c !== undefined);
       for (const c of candidates) {
-        if (!c.w.problem.solveFrom(c.values, c.start)) continue;
+        if (!charged(c.w, () => c.w.problem.solveFrom(c.values, c.start))) continue;
         const volts = c.w.problem.volts(c.w.terminal(n.name));
-        const t = thresholdsAt(this.chain, c.w.named(c.values), (net) => c.w.problem.volts(c.w.terminal(net)), n.name, rc);
+        const named = c === f ? (namedAtF ??= f.w.named(f.values)) : c.w.named(c.values);
+        const t = thresholdsAt(this.chain, named, (net) => c.w.problem.volts(c.w.terminal(net)), n.name, rc);
         if (t && (high ? volts - t.vih : t.vil - volts) < required) {
           failure = { at: c, volts, against: { what: high ? 'VIH' : 'VIL', volts: high ? t.vih : t.vil, stage: rc.stage } };
           break;
@@ -322,7 +365,8 @@ export class Refiner {
    */
   byAnalogy(n: NetCheck, model: NetCheck, required: number): Witness | undefined {
     const mw = model.witness;
-    if (!mw?.level) return undefined;
+    // Charged to the spare budget: a design of thousands of alike nets cannot pay a whole solve for each.
+    if (!mw?.level || this.spare.left <= 0) return undefined;
     const high = mw.level.state === 'high';
     const swap = new Map<string, string>();
     const pair = (a: string, b: string, depth: number): void => {
@@ -349,11 +393,129 @@ export class Refiner {
       return mw.values[`${swap.get(part) ?? part}${suffix}`];
     };
     const values = Float64Array.from(w.parameters, (p, i) => named(witnessName(p)) ?? w.nominal[i]!);
-    if (!w.problem.solveFrom(values, start)) return undefined;
+    const before = w.problem.system.iterationCount;
+    const solved = w.problem.solveFrom(values, start);
+    this.spare.spend((w.problem.system.iterationCount - before) * w.problem.circuit.n);
+    if (!solved) return undefined;
     const latches = this.latchStates(w, state);
     if (!latches.every((l) => latchHeld(w.problem.volts(l.high), w.problem.volts(l.low), l.threshold))) return undefined;
     const ranked = mw.key.map((k) => w.parameters.findIndex((p) => witnessName(p) === (swap.get(k) ?? k))).filter((i) => i >= 0);
-    return this.levelWitness(n, high, { value: w.problem.volts(w.terminal(n.name)), values, ranked, state, w, start }, required);
+    return this.levelWitness(n, high, { value: w.problem.volts(w.terminal(n.name)), values, ranked, state, w, start }, required, this.spare);
+  }
+
+  /**
+   * A witness looked for where the search of net `n`'s corners is out of reach or did not
+   * decide: the corner its own bound comes from (the vertex of the local case that gives
+   * its worst level: its region's parts, rails and sections at their ends there), every
+   * other part nominal, solved whole in up to \`BOUND_STATES\` states where the net takes
+   * that level, and judged as \`levelWitness\` judges a found level (against each receiving
+   * stage's thresholds at the same values, and with that stage at its threshold's worst
+   * corner). A bound that is pessimistic only by a little fails at that corner too, for a
+   * solve and a few sweeps, where a search would cost thousands of solves. Undefined where
+   * it does not fail there.
+   */
+  boundWitness(n: NetCheck, required: number, questions: readonly RefineQuestion[]): Witness | undefined {
+    const net = this.chain.nets.get(n.name);
+    // Alike nets are one question (their bounds come from the same corner): where one showed no witness, the others are not tried.
+    if (!net || this.boundShown.has(n.classId)) return undefined;
+    const witness = this.atBound(n, net, required, questions);
+    if (!witness) this.boundShown.add(n.classId);
+    return witness;
+  }
+
+  private atBound(n: NetCheck, net: ChainNet, required: number, questions: readonly RefineQuestion[]): Witness | undefined {
+    for (const q of questions) {
+      if (q === 'cutoff') continue;
+      const high = q === 'high';
+      const worst = this.chain.worstCaseOf(net, q);
+      const vertex = worst?.r.vertex;
+      if (!vertex) continue;
+      const effects = worst.r.effects;
+      let tried = 0;
+      for (const s of this.states ?? []) {
+        // A solve of the level and two of the receiving stage's corner, at most, per state.
+        const at = this.spareState(s, 3);
+        if (at === 'spent') return undefined;
+        if (!at) continue;
+        const { w, start } = at;
+        if (this.logicOf(w, s, start).get(n.name) !== high) continue;
+        if (tried++ >= BOUND_STATES) break;
+        const before = w.problem.system.iterationCount;
+        const values = Float64Array.from(w.nominal);
+        const index = new Map(w.parameters.map((p, i) => [`${p.kind}|${p.target}`, i]));
+        const moved: { j: number; effect: number }[] = [];
+        net.parameters.forEach((p, i) => {
+          const j = p.kind === 'level' ? undefined : index.get(`${p.kind}|${p.target}`);
+          if (j === undefined || vertex[i] === values[j]) return;
+          values[j] = vertex[i]!;
+          moved.push({ j, effect: Math.abs(effects?.[i] ?? 0) });
+        });
+        const solved = w.problem.solveFrom(values, start) && this.latchStates(w, s).every((l) => latchHeld(w.problem.volts(l.high), w.problem.volts(l.low), l.threshold));
+        this.spare.spend((w.problem.system.iterationCount - before) * w.problem.circuit.n);
+        const ranked = moved.sort((a, b) => b.effect - a.effect).map((m) => m.j);
+        const witness = solved ? this.levelWitness(n, high, { value: w.problem.volts(w.terminal(n.name)), values, ranked, state: s, w, start }, required, this.spare) : undefined;
+        if (witness) return witness;
+      }
+    }
+    return undefined;
+  }
+
+  /**
+   * A witness of receiving stage `n`'s gain never reaching 1 from one of the nets in
+   * `drivers` (those whose worst-case thresholds found a corner with no unity-gain point):
+   * the stage's own parts at that corner, every other part nominal, in a state where the
+   * stage's other inputs are low, the driving net held and swept across the whole design
+   * (`gainCurveAt`, as \`solve --at\` re-solves it). Undefined where the whole design's curve
+   * reaches a gain of 1 in every such state (the flat curve came from the nets around the
+   * stage at the ends of their bounds, which no corner need give together).
+   */
+  gainWitness(n: NetCheck, drivers: readonly string[]): Witness | undefined {
+    const stage = this.chain.nets.get(n.name);
+    if (!stage) return undefined;
+    for (const driving of drivers) {
+      for (const receiver of this.graph.nets.find((x) => x.name === driving)?.receivers.filter((r) => r.output === n.name) ?? []) {
+        const t = receiverThresholds(this.chain, driving, receiver);
+        // Receivers with equal curves (alike stages, alike levels around them) are one question: where one showed no witness, the others are not tried.
+        if (!t || (t.vilMin !== undefined && t.vihMax !== undefined) || this.flatShown.has(t.key)) continue;
+        const corner = t.vilMin === undefined ? t.corners.early : t.corners.late;
+        const others = stage.feeders.flat().filter((f) => f !== driving);
+        let tried = 0;
+        for (const s of this.states ?? [{ moved: [], hints: [] }]) {
+          // One solve per point of the sweep.
+          const at = this.spareState(s, SWEEP_POINTS, GAIN_POINT_ITERATIONS);
+          if (at === 'spent') return undefined;
+          if (!at) continue;
+          const { w, start } = at;
+          const logic = this.logicOf(w, s, start);
+          if (others.some((f) => logic.get(f) !== false)) continue;
+          if (tried++ >= GAIN_STATES) break;
+          const values = Float64Array.from(w.nominal);
+          const index = new Map(w.parameters.map((p, i) => [`${p.kind}|${p.target}`, i]));
+          const key: string[] = [];
+          stage.parameters.forEach((p, i) => {
+            const j = p.kind === 'level' ? undefined : index.get(`${p.kind}|${p.target}`);
+            if (j === undefined || corner[i] === values[j]) return;
+            values[j] = corner[i]!;
+            key.push(witnessName(w.parameters[j]!));
+          });
+          const { from, to } = sweepRange(this.chain, driving);
+          const witness = {
+            values: w.named(values),
+            key: key.slice(0, WITNESS_KEY),
+            positions: positionsAfter(this.design, s.moved),
+            states: Object.fromEntries(s.hints.map((h) => [h.net, h.high ? 'high' : 'low'] as const)),
+            gain: { net: driving, stage: n.name, from, to, points: SWEEP_POINTS, steepest: 0 },
+          };
+          this.spare.spend(SWEEP_POINTS * GAIN_POINT_ITERATIONS * w.problem.circuit.n);
+          const g = gainCurveAt(this.design, witness);
+          if (!g || g.unity) continue;
+          witness.gain.steepest = g.steepest;
+          return { ...witness, shows: `its gain from ${driving} never reaches 1: with ${driving} held from ${from.toFixed(3)} to ${to.toFixed(3)} V, ${n.name} falls at most ${g.steepest.toFixed(3)} V per volt, so it cannot restore the levels it is given` };
+        }
+        this.flatShown.add(t.key);
+      }
+    }
+    return undefined;
   }
 
   /**
@@ -430,6 +592,24 @@ export class Refiner {
     return { status: 'undecided', basis: 'undecided', found, witness: undefined, corners, reason: `no corner searched fails it (${corners.toLocaleString('en')} solved), but its bound does, and ${why}` };
   }
 }
+
+/** The spare budget (\`Refiner.spare\`), in Newton iterations times unknowns, as \`CORNER_WORK\`. */
+export const SPARE_WORK = CORNER_WORK;
+
+/** What finding a state of the whole design is charged, in solves from a neighbour (it is solved afresh, with its latches pinned). */
+export const STATE_SOLVES = 10;
+
+/** States a bound's own corner is tried in at most, per level (each one whole solve and a few threshold sweeps). */
+export const BOUND_STATES = 2;
+
+/**
+ * What a point of a gain witness's sweep is charged, in Newton iterations: each is a solve
+ * of the whole design as \`solve\` makes it, with its report, not a step from a neighbour.
+ */
+export const GAIN_POINT_ITERATIONS = 10;
+
+/** States a gain witness is looked for in, at most, per receiving section (each one sweep of the whole design). */
+export const GAIN_STATES = 1;
 
 /** What a net's bound can fail on that the corners of the whole design can decide. */
 export type RefineQuestion = 'high' | 'low' | 'cutoff';
@@ -537,10 +717,31 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
     // An alike net already failed: its witness's image costs one solve, a search thousands.
     if (byModel(refiner, n)) continue;
     const r = refiner.refine(n, required, n.refinable);
-    // A gain that never reaches 1 is the stage's own failure, which no corner of its levels clears.
+    // A gain that never reaches 1 is the stage's own failure, which no corner of its levels clears: it fails with a witness of its own, or is undecided.
     if (flatInputs.has(n.name) && r?.status !== 'fail') {
       n.found = r?.found;
-      n.reasons.unshift(r ? `no corner of the whole design fails its levels (${r.corners.toLocaleString('en')} solved), but its gain fails by the bound` : 'its gain fails by the bound (its levels were not searched: the budget for corners is spent)');
+      const gain = refiner.gainWitness(n, flatInputs.get(n.name)!);
+      const levels = r ? `no corner of the whole design fails its levels (${r.corners.toLocaleString('en')} solved)` : "its levels were not searched (this check's budget for corners is spent)";
+      if (gain) {
+        n.basis = 'witness';
+        n.witness = gain;
+        n.reasons = [`at the corner of its witness, ${gain.shows}`, ...n.reasons.map((x) => `the bound: ${x}`)];
+      } else {
+        n.status = 'undecided';
+        n.basis = 'undecided';
+        n.reasons.unshift(`undecided: its gain fails by the bound (a corner of its own parts with the nets around it at the ends of their bounds), but the whole design at that corner, the driving net held and swept, was not shown to lose its gain; ${levels}`);
+      }
+      continue;
+    }
+    // Where the search is out of reach or did not decide, the bound's own corner may still show the failure.
+    const atBound = (!r || r.status === 'undecided') && n.refinable.length > 0 ? refiner.boundWitness(n, required, n.refinable) : undefined;
+    if (atBound) {
+      n.status = 'fail';
+      n.basis = 'witness';
+      n.found = r?.found;
+      n.witness = atBound;
+      n.reasons = [`at the corner its bound comes from, solved whole, ${atBound.shows}`, ...n.reasons.filter((x) => !x.startsWith('undecided: ')).map((x) => (x.startsWith('the bound: ') ? x : `the bound: ${x}`))];
+      if (atBound.level && !models.has(n.classId)) models.set(n.classId, n);
       continue;
     }
     if (!r) {
@@ -559,4 +760,11 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
   }
   // Alike nets searched before one of their class failed are tried at its witness too.
   for (const n of nets) if (!n.witness && (n.status === 'fail' || n.status === 'undecided') && n.refinable && refiner) byModel(refiner, n);
+  // A FAIL is a failure shown: what fails by its bound alone (a level no local solve found, a loop whose bounds did not settle) may fail, no more.
+  for (const n of nets) {
+    if (n.status !== 'fail' || n.witness) continue;
+    n.status = 'undecided';
+    n.basis = 'undecided';
+    n.reasons = ['undecided: it fails by its bound alone, which corners of the whole design cannot decide here', ...n.reasons.map((x) => (x.startsWith('the bound: ') ? x : `the bound: ${x}`))];
+  }
 }

@@ -1,4 +1,6 @@
 import type { Design } from '../design/model.js';
+import type { SectionVariation } from '../models/tubeEquations.js';
+import type { StateHint } from '../solve/operatingPoint.js';
 import { HeldNet } from './heldNet.js';
 import type { TransferCurve } from './staticNoiseMargin.js';
 
@@ -11,6 +13,10 @@ export interface SweepOptions {
   to: number;
   /** Number of points, ends included (≥ 3). */
   points: number;
+  /** Sections' emission and interface, where they are not nominal. */
+  variation?: ReadonlyMap<string, SectionVariation>;
+  /** Latch states to start the first point from (as `solve --hint`); hints on the two swept nets are left out. */
+  hints?: StateHint[];
 }
 
 /**
@@ -25,14 +31,15 @@ export interface SweepOptions {
  * stage, high while `q` is low and low once `q` is high.
  */
 export function sweepTransfer(design: Design, sweep: SweepOptions): TransferCurve | undefined {
-  const held = new HeldNet(design, sweep.input);
+  const held = new HeldNet(design, sweep.input, sweep.variation);
+  const hints = sweep.hints?.filter((h) => h.net !== sweep.input && h.net !== sweep.output);
   const vin: number[] = [];
   const vout: number[] = [];
   let start: Float64Array | undefined;
   for (let k = 0; k < sweep.points; k++) {
     const v = sweep.from + ((sweep.to - sweep.from) * k) / (sweep.points - 1);
     // After the first point each solve starts from the last, so no latch is re-pinned.
-    const op = held.solveAt(v, start ? { start } : {});
+    const op = held.solveAt(v, start ? { start } : hints ? { hints } : {});
     if (!op) return undefined;
     vin.push(v);
     vout.push(op.nodes.get(sweep.output)!);
