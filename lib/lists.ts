@@ -35,3 +35,12 @@ export function append<T>(out: T[], items: readonly T[]): T[] {
   for (let i = 0; i < items.length; i++) out.push(items[i]!);
   return out;
 }
+
+/** The first item of each key, in order: `firstOfEach(['ab', 'ac', 'b'], (s) => s[0])` is `['ab', 'b']`. */
+export function firstOfEach<T>(items: readonly T[], key: (item: T) => string): T[] {
+  const seen = new Set<string>();
+  return items.filter((item) => {
+    const k = key(item);
+    return !seen.has(k) && seen.add(k) !== undefined;
+  });
+}

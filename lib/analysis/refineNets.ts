@@ -10,6 +10,7 @@ import { receiverThresholds, sweepCurve, sweepRange, SWEEP_POINTS } from './rece
 import { unityGainPoints } from './unityGain.js';
 import { cutoffGrid } from './gridMargins.js';
 import { P } from '../models/tubeEquations.js';
+import { firstOfEach } from '../lists.js';
 
 /**
  * Bracketed verdicts for nets: a net whose bound misses the requirement is put to the
@@ -276,9 +277,8 @@ export class Refiner {
       return result;
     };
     let namedAtF: Record<string, number> | undefined;
-    // On a budget, alike receiving stages (one class, the same input) are one question: the first of them is asked.
-    const asked = new Set<string>();
-    const receivers = budget ? n.receivers.filter((rc) => !asked.has(`${this.chain.classOf(rc.stage)}|${rc.vilMin}|${rc.vihMax}`) && asked.add(`${this.chain.classOf(rc.stage)}|${rc.vilMin}|${rc.vihMax}`)) : n.receivers;
+    // On a budget, alike receiving stages (one class, the same worst thresholds) are one question: the first of them is asked.
+    const receivers = budget ? firstOfEach(n.receivers, (rc) => `${this.chain.classOf(rc.stage)}|${rc.vilMin}|${rc.vihMax}`) : n.receivers;
     for (const rc of failure ? [] : receivers) {
       const candidates = [f, charged(f.w, () => this.withReceiverCorner(f, n.name, rc, high))].filter((c): c is Found => c !== undefined);
       for (const c of candidates) {
