@@ -19,6 +19,16 @@ export interface CheckBenchRow {
   withRatingsMs: number;
   localSolves: number;
   verdict: string;
+  /** The nets by how they were decided, e.g. "4 FAIL with a witness, 1,997 UNDECIDED". */
+  decided: string;
+}
+
+/** How a check's nets were decided, in words: ok by bounds or corners, FAIL with a witness, UNDECIDED. */
+function decidedNets(nets: readonly { status: string; basis: string }[]): string {
+  const words: Record<string, string> = { 'pass/bounds': 'ok by bounds', 'pass/corners': 'ok by corners', 'fail/witness': 'FAIL with a witness', 'fail/bounds': 'FAIL by bound', 'undecided/undecided': 'UNDECIDED' };
+  const counts = new Map<string, number>();
+  for (const n of nets) counts.set(`${n.status}/${n.basis}`, (counts.get(`${n.status}/${n.basis}`) ?? 0) + 1);
+  return [...counts].map(([k, c]) => `${c.toLocaleString('en')} ${words[k] ?? k}`).join(', ');
 }
 
 /**
@@ -56,6 +66,6 @@ export function benchCheck(sizes: number[], runs = 7): CheckBenchRow[] {
       checkMargins(design, { graph, ratings: true });
       rated.push(performance.now() - t0);
     }
-    return { stages, nets: graph.nets.length, checkMs: median(checks), solveMs: median(solves), frontMs: median(fronts), withRatingsMs: median(rated), localSolves: last.localSolves, verdict: last.verdict };
+    return { stages, nets: graph.nets.length, checkMs: median(checks), solveMs: median(solves), frontMs: median(fronts), withRatingsMs: median(rated), localSolves: last.localSolves, verdict: last.verdict, decided: decidedNets(last.nets) };
   });
 }
