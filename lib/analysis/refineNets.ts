@@ -198,12 +198,13 @@ export class Refiner {
    * an objective of terminals. A level of the net itself (`level`) already searched in
    * every state by `tightenLevels` is taken from there.
    */
-  private worstOver(net: string, high: boolean, terms: (w: WholeDesign) => { terminal: number; weight: number }[], worst: 'min' | 'max', level = false): { found: Found | undefined; corners: number; exhaustive: boolean } | undefined {
+  private worstOver(net: string, high: boolean, terms: (w: WholeDesign) => { terminal: number; weight: number }[], worst: 'min' | 'max', level = false): { found: Found | undefined; corners: number; exhaustive: boolean; states: number } | undefined {
     const seed = level ? this.seeds.get(net)?.[high ? 'high' : 'low'] : undefined;
-    if (seed) return { found: seed.found, corners: seed.corners, exhaustive: seed.exact };
+    if (seed) return { found: seed.found, corners: seed.corners, exhaustive: seed.exact, states: 1 };
     let found: Found | undefined;
     let corners = 0;
     let exhaustive = true;
+    let states = 0;
     for (const s of this.states!) {
       const w = this.whole(s.moved);
       // What a search would cost is known before any solve: past the budget, nothing is solved.
@@ -213,13 +214,14 @@ export class Refiner {
       if (!start || t === undefined) continue;
       // The state's logic says whether the net takes this level in it (a failing net may read otherwise).
       if (this.logicOf(w, s, start).get(net) !== high) continue;
+      states++;
       const a = searchCorners(w, { terms: terms(w), worst, start, latches: this.latchStates(w, s), cap: this.budget.left });
       corners += a.corners;
       this.budget.spend(a.work);
       exhaustive &&= a.exhaustive && !a.lost;
       if (a.worst !== undefined && (!found || (worst === 'min' ? a.worst < found.value : a.worst > found.value))) found = { value: a.worst, values: a.at!, ranked: a.ranked, state: s, w, start };
     }
-    return { found, corners, exhaustive };
+    return { found, corners, exhaustive, states };
   }
 
   /**
@@ -531,6 +533,7 @@ export class Refiner {
     const found: NetRefinement['found'] = { high: undefined, low: undefined };
     let corners = 0;
     let exhaustive = true;
+    let inStates = 0;
     let witness: Witness | undefined;
     let cleared = true;
     const vihBound = n.receivers.reduce<number | undefined>((m, r) => (r.vihMax === undefined ? m : Math.max(m ?? -Infinity, r.vihMax)), undefined);
@@ -551,6 +554,7 @@ export class Refiner {
           const r = this.worstOver(n.name, true, terms, 'max');
           if (!r) return undefined;
           corners += r.corners;
+          inStates += r.states;
           exhaustive &&= r.exhaustive;
           if (!r.found) continue;
           const f = r.found;
@@ -571,6 +575,7 @@ export class Refiner {
       const r = this.worstOver(n.name, high, (w) => [{ terminal: w.terminal(n.name), weight: 1 }], high ? 'min' : 'max', true);
       if (!r) return undefined;
       corners += r.corners;
+      inStates += r.states;
       exhaustive &&= r.exhaustive;
       const f = r.found;
       if (!f) {
@@ -587,7 +592,11 @@ export class Refiner {
     if (exhaustive && cleared && this.complete) {
       return { status: 'pass', basis: 'corners', found, witness: undefined, corners, reason: `every corner of the whole design keeps it within its limits (${corners.toLocaleString('en')} corners solved); the chained bounds alone could not show it` };
     }
-    if (corners === 0) return { status: 'undecided', basis: 'undecided', found, witness: undefined, corners, reason: "its bound fails, and this check's budget for corners of the whole design ran out before any of its own was solved" };
+    if (corners === 0) {
+      // No corner solved: either no state's logic gives the net the level in question (a loop that is not a latch, such as an odd ring of inverters, has no static logic), or the budget ran out first.
+      const why = inStates === 0 ? 'no state of its contacts and latches gives it the level in question by its logic (a loop that is not a latch has no static logic state), so no corner was searched' : "this check's budget for corners of the whole design ran out before any of its own was solved";
+      return { status: 'undecided', basis: 'undecided', found, witness: undefined, corners, reason: `its bound fails, and ${why}` };
+    }
     const why = !exhaustive ? 'not every corner was solved' : !cleared ? 'the level found does not clear the worst-case thresholds' : 'not every state of its contacts and latches was searched';
     return { status: 'undecided', basis: 'undecided', found, witness: undefined, corners, reason: `no corner searched fails it (${corners.toLocaleString('en')} solved), but its bound does, and ${why}` };
   }

@@ -58,4 +58,23 @@ describe("check's words agree with its verdicts", () => {
     expect(again.reproduced).toBe(true);
     expect(again.seen).toMatch(/its low level on the wrong side of its logic threshold 12\.000 V/);
   });
+  it('says why no corner was searched where no state gives a net its level, not that the budget ran out', () => {
+    // Three inverters in a ring have no static logic state (an odd loop of inversions
+    // oscillates: common practice, no source), so no state of the design puts a net at the
+    // level its bound fails on; the check solved no corner, and its budget was untouched.
+    const ring = loadDesign('ring.tube', `rail bp = 24 V tol 5 %
+rail bias = -12 V tol 5 %
+type LP koren-pentode { mu = 35, ex = 1.35, kg1 = 600, kg2 = 4500, kp = 45, kvb = 15, spread = 25 % }
+defaults { tolerance = 5 %, margin = 1.5 V, tube = LP }
+stage a { load 33 k to bp; screen bp; input c series 220 k pulldown 220 k to bias }
+stage b { load 33 k to bp; screen bp; input a series 220 k pulldown 220 k to bias }
+stage c { load 33 k to bp; screen bp; input b series 220 k pulldown 220 k to bias }`).design!;
+    const r = checkOf(ring);
+    expect(r.nets.length).toBe(3);
+    for (const n of r.nets) {
+      expect(n.status).toBe('undecided');
+      expect(n.reasons[0]).toContain('no state of its contacts and latches gives it the level in question');
+      expect(n.reasons.join(' ')).not.toContain('budget');
+    }
+  });
 });
