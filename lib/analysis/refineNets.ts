@@ -749,7 +749,7 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
       n.basis = 'witness';
       n.found = r?.found;
       n.witness = atBound;
-      n.reasons = [`at the corner its bound comes from, solved whole, ${atBound.shows}`, ...n.reasons.filter((x) => !x.startsWith('undecided: ')).map((x) => (x.startsWith('the bound: ') ? x : `the bound: ${x}`))];
+      n.reasons = [`at the corner its bound comes from, solved whole (with a receiving stage's own parts at its threshold's worst corner, where that is what fails it), ${atBound.shows}`, ...n.reasons.filter((x) => !x.startsWith('undecided: ')).map((x) => (x.startsWith('the bound: ') ? x : `the bound: ${x}`))];
       if (atBound.level && !models.has(n.classId)) models.set(n.classId, n);
       continue;
     }

@@ -1,5 +1,6 @@
 import { latchSwitchingFails, type CheckResult, type Cause, type NetCheck } from '../analysis/check.js';
 import type { Witness } from '../analysis/cornerSearch.js';
+import { AGEING_SCENARIOS } from '../analysis/ageing.js';
 import type { LatchResult } from '../analysis/latchCheck.js';
 import { MAX_EXTRA_LOADS } from '../analysis/fanoutHeadroom.js';
 import { CUTOFF_FRACTION } from '../analysis/gridMargins.js';
@@ -387,11 +388,16 @@ function statusText(n: NetCheck, short = false): string {
   return n.status === 'fail' ? 'FAIL' : n.status === 'undecided' ? (short ? '?' : 'UNDECIDED') : 'unchecked';
 }
 
+/** A word as a shell reads it: as it is when plain, else in single quotes (a net such as `bed[1]/off` is a pattern to a shell). */
+function shellWord(word: string): string {
+  return /^[\w./:+-]+$/.test(word) ? word : `'${word.replace(/'/g, `'\\''`)}'`;
+}
+
 /**
  * A witness in a few lines: its states and contacts, the values that matter most (every
  * value is in `--json`), and how to re-solve it.
  */
-export function renderWitness(w: Witness, source: string, atNet: string): string[] {
+export function renderWitness(w: Witness, source: string, atNet: string, checkOptions = ''): string[] {
   const states = Object.entries(w.states).map(([net, s]) => `${net} ${s}`).join(', ');
   const closed = Object.entries(w.positions).filter(([, p]) => p === 'closed').map(([k]) => k);
   const key = (w.key ?? []).filter((k) => w.values[k] !== undefined);
@@ -400,7 +406,8 @@ export function renderWitness(w: Witness, source: string, atNet: string): string
   const lines = indented(`witness: ${states || 'no latch state asked'}; ${closed.length ? `closed: ${closed.join(', ')}` : 'every contact at rest'}`, '   ', '     ');
   if (key.length > 0) lines.push(...indented(`at ${values}${rest > 0 ? `, and ${rest} more part${rest === 1 ? '' : 's'} at the ends of their bands (every value in --json)` : ''}`, '     ', '       '));
   else if (rest > 0) lines.push(...indented(`at the ${rest} values in --json`, '     ', '       '));
-  lines.push(...indented(`re-solve it: tubemargin check ${source} --json > c.json; tubemargin solve ${source} --at c.json --at-net ${atNet}`, '     ', '       '));
+  const file = shellWord(source);
+  lines.push(...indented(`re-solve it: tubemargin check ${file}${checkOptions ? ` ${checkOptions}` : ''} --json > c.json; tubemargin solve ${file} --at c.json --at-net ${shellWord(atNet)}`, '     ', '       '));
   return lines;
 }
 
@@ -415,6 +422,8 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
   const failing = r.nets.filter((n) => n.status === 'fail');
   const badLatches = r.latches.filter((l) => l.basis === 'witness' || latchSwitchingFails(l));
   const undecidedLatches = r.latches.filter((l) => l.basis === 'undecided');
+  // The options a witness needs to be found again: its scenario and required margin, where not the design's own.
+  const again = [r.scenario.name !== AGEING_SCENARIOS[0]!.name ? `--age ${r.scenario.name}` : '', r.requiredMargin !== design.settings.requiredMargin ? `--margin ${r.requiredMargin}` : ''].filter((x) => x).join(' ');
   out.push(`${design.title || '(untitled design)'} — ${source}`);
   const latchWords = r.latches.length > 0 ? ' and every latch holds and switches' : '';
   const failWords = [`${failing.length} of ${r.nets.length} nets`, ...(r.latches.length > 0 ? [`${badLatches.length} of ${r.latches.length} latches`] : [])].join(' and ');
@@ -501,7 +510,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
             : `worst high ${v(n.high?.worst)} V, NM_H ${v(n.margin.high)} V`);
       append(out, indented(`${k + 1}. ${n.name} (${statusText(n)}): ${n.note ?? summary}`, '', '     '));
       // A latch's witness is printed once, with the latch.
-      if (n.witness && (n.witness.level || n.witness.grid)) append(out, renderWitness(n.witness, source, n.name));
+      if (n.witness && (n.witness.level || n.witness.grid || n.witness.gain)) append(out, renderWitness(n.witness, source, n.name, again));
       const alike = judged.filter((m) => m.classId === n.classId && m !== n);
       // Alike nets can fail at witnesses of their own (their own parts at the same ends).
       const own = alike.some((m) => m.witness && m.witness !== n.witness) ? ' (each with a witness of its own, in --json)' : '';
@@ -513,13 +522,15 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
       }
     });
   }
-  if (wanted.length > explained.length) out.push(`   … and ${wanted.length - explained.length} more kinds of net that fail or are undecided (every one in --json)`);
+  if (wanted.length > explained.length) out.push(`   … and ${wanted.length - explained.length} more nets (or groups of alike nets) that fail or are undecided (every one in --json)`);
   // Latches that fail, that are undecided, and those the corners showed to hold where the bounds could not.
   for (const l of r.latches.filter((l) => badLatches.includes(l) || l.basis !== 'bounds')) {
     out.push('');
     const head = l.basis === 'undecided' ? 'UNDECIDED' : l.holds ? 'holds' : 'does NOT hold';
-    append(out, indented(`Latch ${l.nets.join(' ↔ ')}: ${head}${l.reasons.length ? ': ' + l.reasons.join('; ') : ''}`, '', '  '));
-    if (l.witness) append(out, renderWitness(l.witness, source, l.nets[0]));
+    // The head already says UNDECIDED: a reason that opens with it does not say it twice.
+    const reasons = l.reasons.map((x) => (l.basis === 'undecided' ? x.replace(/^undecided: /, '') : x));
+    append(out, indented(`Latch ${l.nets.join(' ↔ ')}: ${head}${reasons.length ? ': ' + reasons.join('; ') : ''}`, '', '  '));
+    if (l.witness) append(out, renderWitness(l.witness, source, l.nets[0], again));
     if (l.holds) for (const i of l.inputs) if (!i.switches && i.note === undefined) append(out, indented(`${i.input} at its weakest asserted level ${v(i.asserted)} V does not switch it`, '  ', '    '));
   }
   if (r.ratings) out.push('', ...renderRatings(r.ratings));

@@ -77,4 +77,24 @@ stage c { load 33 k to bp; screen bp; input b series 220 k pulldown 220 k to bia
       expect(n.reasons.join(' ')).not.toContain('budget');
     }
   });
+  it('prints a re-solve line that finds the witness again: the scenario and margin the check ran with, and names a shell reads as written', () => {
+    // Found by a fresh-eyes run: after `check --age aged`, the printed `check … --json`
+    // left out `--age aged`, so the report it wrote held no witness for the net, and
+    // `bed[1]/off` unquoted is a file pattern to a shell (common practice, no source).
+    const file = 'nets/irrigation-sequencer.tube';
+    const d = demo(file);
+    const text = renderCheck(d, checkOf(d, { scenario: findScenario('aged')!, requiredMargin: 1.25 }), file);
+    const lines = text.split('\n');
+    const at = lines.flatMap((line, i) => (line.includes('re-solve it:') ? [`${line} ${lines[i + 1]!.trim()} ${lines[i + 2]!.trim()}`] : []));
+    expect(at.length).toBeGreaterThan(0);
+    for (const line of at) {
+      expect(line).toContain('--age aged');
+      expect(line).toContain('--margin 1.25');
+      const net = /--at-net (\S+)/.exec(line)?.[1];
+      expect(net, line).toBeDefined();
+      if (/[[\]]/.test(net!)) expect(net).toMatch(/^'.*'$/);
+    }
+    // A gain witness is printed like any other.
+    expect(text).toMatch(/valve\[1\] \(FAIL\)[\s\S]*?witness:[\s\S]*?re-solve it/);
+  });
 });
