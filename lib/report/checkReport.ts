@@ -9,6 +9,7 @@ import type { ShrinkResult } from '../analysis/shrink.js';
 import { DERATING, type Ratings } from '../analysis/ratings.js';
 import type { Design } from '../design/model.js';
 import { cutList, formatSI, table, wrap } from './format.js';
+import { firstOfEach } from '../lists.js';
 import { figure, named, WHY_SUFFIX, type Figure } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
@@ -490,11 +491,13 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
     out.push('  (SNM and trigger margin in volts, worst case; holds: both states exist at');
     out.push('  every corner; "?": neither that nor a corner losing a state was shown)');
   }
-  // The three weakest, and every one that fails or is undecided, one per class (nets alike
-  // are named with the first), at most MAX_EXPLAINED.
+  // The three weakest, and every one that fails or is undecided, one per class and verdict
+  // (nets alike that came to the same verdict the same way are named with the first: one
+  // whose latch cannot hold is not grouped with one whose level fails), at most MAX_EXPLAINED.
   const judged = r.nets.filter((n) => n.status !== 'unchecked');
-  const firstOfClass = new Set<number>();
-  const heads = judged.filter((n) => !firstOfClass.has(n.classId) && firstOfClass.add(n.classId));
+  const witnessKind = (w: Witness | undefined) => (!w ? '' : w.level ? 'level' : w.grid ? 'grid' : w.gain ? 'gain' : 'latch');
+  const group = (n: NetCheck) => `${n.classId}|${n.status}|${witnessKind(n.witness)}`;
+  const heads = firstOfEach(judged, group);
   const wanted = heads.filter((n, i) => i < 3 || n.status === 'fail' || n.status === 'undecided');
   const explained = wanted.slice(0, MAX_EXPLAINED);
   if (explained.length > 0) {
@@ -511,7 +514,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
       append(out, indented(`${k + 1}. ${n.name} (${statusText(n)}): ${n.note ?? summary}`, '', '     '));
       // A latch's witness is printed once, with the latch.
       if (n.witness && (n.witness.level || n.witness.grid || n.witness.gain)) append(out, renderWitness(n.witness, source, n.name, again));
-      const alike = judged.filter((m) => m.classId === n.classId && m !== n);
+      const alike = judged.filter((m) => group(m) === group(n) && m !== n);
       // Alike nets can fail at witnesses of their own (their own parts at the same ends).
       const own = alike.some((m) => m.witness && m.witness !== n.witness) ? ' (each with a witness of its own, in --json)' : '';
       if (alike.length > 0) out.push(`   alike: ${cutList(alike.map((m) => m.name), REPORT_COLUMNS - 10 - own.length)}${own}`);

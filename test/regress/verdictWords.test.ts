@@ -97,4 +97,28 @@ stage c { load 33 k to bp; screen bp; input b series 220 k pulldown 220 k to bia
     // A gain witness is printed like any other.
     expect(text).toMatch(/valve\[1\] \(FAIL\)[\s\S]*?witness:[\s\S]*?re-solve it/);
   });
+  it('groups as alike only nets that came to the same verdict the same way', () => {
+    // Found by a fresh-eyes run: in the aged irrigation sequencer bed[1]/off (FAIL, its
+    // latch cannot hold) was shown "alike" bed[2..4]/off, which were UNDECIDED, and bed[1]/on
+    // (its latch's witness) alike nets failing on a level of their own.
+    const file = 'nets/irrigation-sequencer.tube';
+    const d = demo(file);
+    const r = checkOf(d, { scenario: findScenario('aged')! });
+    const kind = (name: string) => {
+      const n = r.nets.find((x) => x.name === name)!;
+      const w = n.witness;
+      return `${n.status} ${!w ? '' : w.level ? 'level' : w.grid ? 'grid' : w.gain ? 'gain' : 'latch'}`;
+    };
+    const lines = renderCheck(d, r, file).split('\n');
+    let groups = 0;
+    lines.forEach((line, i) => {
+      const head = /^\d+\. (\S+) \(/.exec(line);
+      const alike = head && lines.slice(i + 1, i + 4).find((l) => l.startsWith('   alike: '));
+      if (!head || !alike) return;
+      groups++;
+      const names = alike.slice('   alike: '.length).replace(/ \(each.*$/, '').split(', ').filter((x) => !x.startsWith('…'));
+      for (const name of names) expect(`${name}: ${kind(name)}`).toBe(`${name}: ${kind(head[1]!)}`);
+    });
+    expect(groups).toBeGreaterThan(0);
+  });
 });
