@@ -46,6 +46,25 @@ export class WholeDesign {
   /** Corners a search solves: 2 to the number of toleranced parameters, at most 2^`EXHAUSTIVE_PARAMETERS`. */
   readonly corners: number;
 
+  private byTarget: Map<string, number> | undefined;
+
+  /**
+   * \`values\` with a region's own parameters (\`local\`, its boundary levels left out) put at
+   * \`corner\`, in place; returns what it changed, in the region's order: each parameter's
+   * index in the region and in this design.
+   */
+  putCorner(local: readonly LocalParameter[], corner: ArrayLike<number>, values: Float64Array): { local: number; whole: number }[] {
+    this.byTarget ??= new Map(this.parameters.map((p, i) => [`${p.kind}|${p.target}`, i]));
+    const moved: { local: number; whole: number }[] = [];
+    local.forEach((p, i) => {
+      const j = p.kind === 'level' ? undefined : this.byTarget!.get(`${p.kind}|${p.target}`);
+      if (j === undefined || values[j] === corner[i]) return;
+      values[j] = corner[i]!;
+      moved.push({ local: i, whole: j });
+    });
+    return moved;
+  }
+
   /** Terminal of a net in the compiled circuit. */
   terminal(net: string): number {
     return this.problem.circuit.terminalOf.get(net)!;
@@ -376,11 +395,6 @@ export class CornerBudget {
     this.left -= work;
   }
 
-  /**
-   * Whether a search of the whole of `design` could fit at all, judged before compiling
-   * it: its nets stand for its unknowns, 2 to its toleranced parameters (at most
-   * 2^`EXHAUSTIVE_PARAMETERS`) for the corners, `questions` searches.
-   */
   /** Whether `solves` solves of the whole of `design` could fit, judged before compiling it (its nets stand for its unknowns). */
   couldSolve(design: Design, solves: number, iterations = ITERATIONS_PER_CORNER): boolean {
     let nets = netCount.get(design);
@@ -388,6 +402,11 @@ export class CornerBudget {
     return solves * iterations * nets <= this.left;
   }
 
+  /**
+   * Whether a search of the whole of `design` could fit at all, judged before compiling
+   * it: its nets stand for its unknowns, 2 to its toleranced parameters (at most
+   * 2^`EXHAUSTIVE_PARAMETERS`) for the corners, `questions` searches.
+   */
   couldAfford(design: Design, questions = 1): boolean {
     let work = searchWork.get(design);
     if (work === undefined) searchWork.set(design, (work = 2 ** Math.min(EXHAUSTIVE_PARAMETERS, designParameters(design).length) * ITERATIONS_PER_CORNER * designNets(design).length));

@@ -491,7 +491,6 @@ export class LevelChain {
     return { nominal: Math.min(l.lowNominal, l.lowWorst), low: Math.min(this.railMin, l.lowNominal), high: l.lowWorst };
   }
 
-  /** Solves one case of one net: nominal, and the worst vertex for its sense. */
   /** The case that gives a net's worst high (or low) level, with its result: where its bound comes from. */
   worstCaseOf(net: ChainNet, what: 'high' | 'low'): { c: LevelCase; r: CaseResult } | undefined {
     const cases = this.casesOf(net);
@@ -504,6 +503,7 @@ export class LevelChain {
     return worst;
   }
 
+  /** Solves one case of one net: nominal, and the worst vertex for its sense. */
   solveCase(c: LevelCase, net: ChainNet = this.nets.get(c.net)!): CaseResult {
     const input = net.polarity === 'input';
     const on = input ? undefined : c.on;

@@ -236,11 +236,7 @@ export class Refiner {
     if (!t || !stage) return undefined;
     const corner = high ? t.corners.late : t.corners.early;
     const values = Float64Array.from(f.values);
-    const index = new Map(f.w.parameters.map((p, i) => [`${p.kind}|${p.target}`, i]));
-    stage.parameters.forEach((p, i) => {
-      const j = p.kind === 'level' ? undefined : index.get(`${p.kind}|${p.target}`);
-      if (j !== undefined) values[j] = corner[i]!;
-    });
+    f.w.putCorner(stage.parameters, corner, values);
     const w = f.w;
     if (!w.problem.solveFrom(values, f.start)) return undefined;
     const latches = this.latchStates(w, f.state);
@@ -444,17 +440,12 @@ export class Refiner {
         if (tried++ >= BOUND_STATES) break;
         const before = w.problem.system.iterationCount;
         const values = Float64Array.from(w.nominal);
-        const index = new Map(w.parameters.map((p, i) => [`${p.kind}|${p.target}`, i]));
-        const moved: { j: number; effect: number }[] = [];
-        net.parameters.forEach((p, i) => {
-          const j = p.kind === 'level' ? undefined : index.get(`${p.kind}|${p.target}`);
-          if (j === undefined || vertex[i] === values[j]) return;
-          values[j] = vertex[i]!;
-          moved.push({ j, effect: Math.abs(effects?.[i] ?? 0) });
-        });
+        const moved = w.putCorner(net.parameters, vertex, values);
         const solved = w.problem.solveFrom(values, start) && this.latchStates(w, s).every((l) => latchHeld(w.problem.volts(l.high), w.problem.volts(l.low), l.threshold));
         this.spare.spend((w.problem.system.iterationCount - before) * w.problem.circuit.n);
-        const ranked = moved.sort((a, b) => b.effect - a.effect).map((m) => m.j);
+        // Most effect first: the vertex's parts ranked by their linearised effect on the level.
+        const effect = (m: { local: number }) => Math.abs(effects?.[m.local] ?? 0);
+        const ranked = moved.sort((a, b) => effect(b) - effect(a)).map((m) => m.whole);
         const witness = solved ? this.levelWitness(n, high, { value: w.problem.volts(w.terminal(n.name)), values, ranked, state: s, w, start }, required, this.spare) : undefined;
         if (witness) return witness;
       }
@@ -492,14 +483,7 @@ export class Refiner {
           if (others.some((f) => logic.get(f) !== false)) continue;
           if (tried++ >= GAIN_STATES) break;
           const values = Float64Array.from(w.nominal);
-          const index = new Map(w.parameters.map((p, i) => [`${p.kind}|${p.target}`, i]));
-          const key: string[] = [];
-          stage.parameters.forEach((p, i) => {
-            const j = p.kind === 'level' ? undefined : index.get(`${p.kind}|${p.target}`);
-            if (j === undefined || corner[i] === values[j]) return;
-            values[j] = corner[i]!;
-            key.push(witnessName(w.parameters[j]!));
-          });
+          const key = w.putCorner(stage.parameters, corner, values).map((m) => witnessName(w.parameters[m.whole]!));
           const { from, to } = sweepRange(this.chain, driving);
           const witness = {
             values: w.named(values),
