@@ -16,6 +16,7 @@ import { receiverThresholds } from './receiverThresholds.js';
 import type { TransferCurve } from './staticNoiseMargin.js';
 import { highest, lowest } from '../lists.js';
 import { tightenLevels, type TightenSummary } from './wholeLevels.js';
+import { railBoxes } from './railBoxes.js';
 
 export interface CheckOptions {
   /** The noise margin every net must keep (volts); the design's own setting when absent. */
@@ -227,13 +228,25 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
 
   const inLoop = new Set(graph.loops.flatMap((l) => l.nets));
   const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, flatInputs, inLoop, options.headroom ?? true, required, load, designWide));
-  nets.sort((a, b) => (a.status === 'unchecked') !== (b.status === 'unchecked') ? (a.status === 'unchecked' ? 1 : -1) : a.slack - b.slack || compareNames(a.name, b.name));
+  nets.sort(weakestFirst);
   // The parameters behind the weakness, for every failing net and the three weakest classes.
   const weakestClasses = new Set([...new Set(nets.map((n) => n.classId))].slice(0, 3));
   for (const n of nets) {
     if (n.weakest && (n.status === 'fail' || weakestClasses.has(n.classId))) n.weakest.causes = causesOf(chain, chain.nets.get(n.name)!, n.weakest.what);
   }
   const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => latchCheck(chain, l.nets as [string, string]));
+  // A bound that fails on its levels is bounded again over halves of the rails' ranges, before any whole-design solve.
+  if (refine) {
+    const byName = new Map(graph.nets.map((n) => [n.name, n]));
+    passOnRailBoxes(design, graph, scenario, nets, (box, name) => {
+      const receivers = byName.get(name)!.receivers.flatMap((r) => {
+        const t = receiverThresholds(box, name, r);
+        return t ? [{ section: r.section, stage: t.stage, vilMin: t.vilMin, vihMax: t.vihMax }] : [];
+      });
+      return judgeNet(box, name, byName.get(name)!.fanout, receivers, flatInputs, inLoop, false, required, load, designWide, logicThreshold(design, name));
+    });
+    nets.sort(weakestFirst);
+  }
   // What the bounds cannot decide goes to the corners of the whole design.
   if (refine) refineVerdicts({ design, graph, scenario, chain, required, flatInputs, cornerWork: options.cornerWork, seeds: whole?.seeds }, nets, latches);
   let ratings: Ratings | undefined;
@@ -281,10 +294,10 @@ function judgeNet(
   required: number,
   load: StandardLoad | undefined,
   designWide: { vil: number; vih: number } | undefined,
+  thresholdVolts = logicThreshold(chain.design, name),
 ): NetCheck {
   const net = chain.nets.get(name)!;
   const l = chain.levels.get(name)!;
-  const thresholdVolts = logicThreshold(chain.design, name);
   const reasons: string[] = [];
   const base = {
     name,
@@ -394,6 +407,52 @@ function judgeNet(
     weakest,
     slack: limits[0]?.slack ?? Infinity,
   };
+}
+
+/**
+ * Nets whose bound fails on their levels (`refinable`), judged again on every box of the
+ * rails' ranges (`railBoxes`), the logic threshold kept at the design's own: a net that
+ * passes on every box passes, with its levels and margins the worst over the boxes. The
+ * chain runs once per box, and stops early once no such net is left passing.
+ */
+function passOnRailBoxes(design: Design, graph: StageGraph, scenario: AgeingScenario, nets: NetCheck[], judge: (box: LevelChain, name: string) => NetCheck): void {
+  const open = new Map(nets.filter((n) => n.status === 'fail' && n.refinable && n.refinable.length > 0).map((n) => [n.name, [] as NetCheck[]]));
+  if (open.size === 0) return;
+  const boxes = railBoxes(design);
+  if (boxes.length === 0) return;
+  for (const box of boxes) {
+    const chain = new LevelChain(box, graph, scenario);
+    chain.run();
+    if (!chain.settled) return;
+    for (const [name, judged] of open) {
+      const j = judge(chain, name);
+      if (j.status === 'pass') judged.push(j);
+      else open.delete(name);
+    }
+    if (open.size === 0) return;
+  }
+  // Each figure's worst over the boxes; undefined where a box has none.
+  const worst = (xs: (number | undefined)[], pick: typeof lowest) => (xs.some((x) => x === undefined) ? undefined : pick(xs as number[]));
+  for (const n of nets) {
+    const js = open.get(n.name);
+    if (!js || js.length !== boxes.length || js.some((j) => j.receivers.length !== n.receivers.length)) continue;
+    n.status = 'pass';
+    n.reasons = [];
+    n.refinable = undefined;
+    n.note = `its bounds keep the required margin over each half of the rails' ranges (${boxes.length} boxes of ${Math.log2(boxes.length)} rail${boxes.length > 2 ? 's' : ''} bounded apart): over the whole range at once, the bounds take a rail at one end for the level and at the other for the threshold it is judged against`;
+    if (n.high) n.high = { nominal: n.high.nominal, worst: lowest(js.map((j) => j.high!.worst)) };
+    if (n.low) n.low = { nominal: n.low.nominal, worst: highest(js.map((j) => j.low!.worst)) };
+    n.margin = { high: worst(js.map((j) => j.margin.high), lowest), low: worst(js.map((j) => j.margin.low), lowest) };
+    n.receivers = n.receivers.map((r, i) => ({ ...r, vilMin: worst(js.map((j) => j.receivers[i]?.vilMin), lowest), vihMax: worst(js.map((j) => j.receivers[i]?.vihMax), highest) }));
+    if (n.cutoffMargin) n.cutoffMargin = js.map((j) => j.cutoffMargin!).reduce((a, b) => (b.volts < a.volts ? b : a));
+    if (n.driveMargin) n.driveMargin = js.map((j) => j.driveMargin!).reduce((a, b) => (b.volts < a.volts ? b : a));
+    n.slack = lowest(js.map((j) => j.slack));
+  }
+}
+
+/** Unchecked nets last; the rest by slack, least first. */
+function weakestFirst(a: NetCheck, b: NetCheck): number {
+  return (a.status === 'unchecked') !== (b.status === 'unchecked') ? (a.status === 'unchecked' ? 1 : -1) : a.slack - b.slack || compareNames(a.name, b.name);
 }
 
 /** The parameters whose corners make a level weak, largest effect first (at most four). */
