@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { solveOperatingPoint, type Design, type OperatingPoint, type SolveOptions } from '../../lib/index.js';
 import { denseReference } from '../../bench/denseReference.js';
+import { generateRegister } from '../../bench/generate.js';
 import { demoDesigns, design, memoryLoader, netsFiles } from '../helpers.js';
 import { buildStageGraph, loadDesign } from '../../lib/index.js';
 
@@ -100,6 +101,19 @@ stage r { tube "12AU7"; load 47 k to bp; input p series 100 k pulldown 220 k to 
     const undamped = solve(d, { undamped: true });
     expect(undamped.converged).toBe(true);
     for (const net of ['p', 'r', 'p.g1', 'r.g1']) expect(v(undamped, net)).toBeCloseTo(v(damped, net), 8);
+  });
+
+  it('steps through a near-singular Jacobian with a raised diagonal, not a step scaled to nothing (Levenberg–Marquardt, Moré 1978)', () => {
+    // A ring of 100 latch cells from a cold start: stages in their linear region multiply
+    // their gains round the ring and the plain Newton step runs to 1e160 V; scaled to the
+    // step limit it moved no node, 200 times over, before gmin stepping took over.
+    const op = solve(loadDesign('g.tube', generateRegister(400)).design!);
+    expect(op.converged).toBe(true);
+    expect(op.method).toBe('newton');
+    expect(op.iterations).toBeLessThan(120);
+    expect(op.residualAmps).toBeLessThan(1e-9);
+    // Each cell settles in a state of its own: one side high, the other low (the latch hints).
+    for (let i = 0; i < 100; i++) expect(Math.abs(v(op, `q[${i}]`) - v(op, `nq[${i}]`))).toBeGreaterThan(5);
   });
 
   it('gives the same solution with the sparse LU and with mathjs’ dense solver (mathjs as the oracle)', () => {
