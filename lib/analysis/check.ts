@@ -65,6 +65,12 @@ export interface ReceiverMargin {
   stage: string;
   vilMin: number | undefined;
   vihMax: number | undefined;
+  /**
+   * Where the net passed on boxes of the rails' ranges (`passOnRailBoxes`): this input's
+   * margins, each the worst over the boxes. The worst level and the worst threshold above
+   * may come from different boxes, so their difference understates what was shown.
+   */
+  boxMargins?: { high: number | undefined; low: number | undefined };
 }
 
 export interface NetCheck {
@@ -238,7 +244,7 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   // A bound that fails on its levels is bounded again over halves of the rails' ranges, before any whole-design solve.
   if (refine) {
     const byName = new Map(graph.nets.map((n) => [n.name, n]));
-    passOnRailBoxes(design, graph, scenario, nets, (box, name) => {
+    passOnRailBoxes(design, graph, scenario, nets, required, (box, name) => {
       const receivers = byName.get(name)!.receivers.flatMap((r) => {
         const t = receiverThresholds(box, name, r);
         return t ? [{ section: r.section, stage: t.stage, vilMin: t.vilMin, vihMax: t.vihMax }] : [];
@@ -415,11 +421,12 @@ function judgeNet(
  * passes on every box passes, with its levels and margins the worst over the boxes. The
  * chain runs once per box, and stops early once no such net is left passing.
  */
-function passOnRailBoxes(design: Design, graph: StageGraph, scenario: AgeingScenario, nets: NetCheck[], judge: (box: LevelChain, name: string) => NetCheck): void {
+function passOnRailBoxes(design: Design, graph: StageGraph, scenario: AgeingScenario, nets: NetCheck[], required: number, judge: (box: LevelChain, name: string) => NetCheck): void {
   const open = new Map(nets.filter((n) => n.status === 'fail' && n.refinable && n.refinable.length > 0).map((n) => [n.name, [] as NetCheck[]]));
   if (open.size === 0) return;
   const boxes = railBoxes(design);
   if (boxes.length === 0) return;
+  const rails = design.rails.filter((r, i) => boxes[0]!.rails[i]!.volts !== r.volts).map((r) => r.name);
   for (const box of boxes) {
     const chain = new LevelChain(box, graph, scenario);
     chain.run();
@@ -439,15 +446,40 @@ function passOnRailBoxes(design: Design, graph: StageGraph, scenario: AgeingScen
     n.status = 'pass';
     n.reasons = [];
     n.refinable = undefined;
-    n.note = `its bounds keep the required margin over each half of the rails' ranges (${boxes.length} boxes of ${Math.log2(boxes.length)} rail${boxes.length > 2 ? 's' : ''} bounded apart): over the whole range at once, the bounds take a rail at one end for the level and at the other for the threshold it is judged against`;
+    n.note = boxNote(n, js, rails, required);
     if (n.high) n.high = { nominal: n.high.nominal, worst: lowest(js.map((j) => j.high!.worst)) };
     if (n.low) n.low = { nominal: n.low.nominal, worst: highest(js.map((j) => j.low!.worst)) };
     n.margin = { high: worst(js.map((j) => j.margin.high), lowest), low: worst(js.map((j) => j.margin.low), lowest) };
-    n.receivers = n.receivers.map((r, i) => ({ ...r, vilMin: worst(js.map((j) => j.receivers[i]?.vilMin), lowest), vihMax: worst(js.map((j) => j.receivers[i]?.vihMax), highest) }));
+    n.receivers = n.receivers.map((r, i) => {
+      const at = js.map((j) => j.receivers[i]!);
+      const high = n.high ? worst(at.map((x, b) => (x.vihMax === undefined ? undefined : js[b]!.high!.worst - x.vihMax)), lowest) : undefined;
+      const low = n.low ? worst(at.map((x, b) => (x.vilMin === undefined ? undefined : x.vilMin - js[b]!.low!.worst)), lowest) : undefined;
+      return { ...r, vilMin: worst(at.map((x) => x.vilMin), lowest), vihMax: worst(at.map((x) => x.vihMax), highest), boxMargins: { high, low } };
+    });
     if (n.cutoffMargin) n.cutoffMargin = js.map((j) => j.cutoffMargin!).reduce((a, b) => (b.volts < a.volts ? b : a));
     if (n.driveMargin) n.driveMargin = js.map((j) => j.driveMargin!).reduce((a, b) => (b.volts < a.volts ? b : a));
     n.slack = lowest(js.map((j) => j.slack));
   }
+}
+
+/**
+ * Why a net whose whole-range bound failed passes on the rail boxes, with the figures.
+ * Example: "bounded with rails hv and neg over the whole of their ranges at once, NM_L is
+ * 4.17 V: the bound takes them at one end for this level and at the other for the VIL it
+ * is judged against; bounded over each half of their ranges in turn (4 cases), it is
+ * 5.10 V at worst".
+ */
+function boxNote(whole: NetCheck, boxes: readonly NetCheck[], rails: readonly string[], required: number): string {
+  const sides = (['low', 'high'] as const).filter((side) => {
+    const m = whole.margin[side];
+    return m !== undefined && m < required;
+  });
+  const names = `rail${rails.length > 1 ? 's' : ''} ${rails.join(' and ')}`;
+  const them = rails.length > 1 ? 'them' : 'it';
+  const what = (side: 'low' | 'high') => `NM_${side === 'low' ? 'L' : 'H'}`;
+  const before = sides.map((side) => `${what(side)} is ${whole.margin[side]!.toFixed(2)} V`).join(' and ');
+  const after = sides.map((side) => `${what(side)} ${lowest(boxes.map((b) => b.margin[side]!)).toFixed(2)} V`).join(' and ');
+  return `bounded with ${names} over the whole of ${rails.length > 1 ? 'their ranges' : 'its range'} at once, ${before || 'its margin falls short'}: the bound takes ${them} at one end for this level and at the other for the threshold it is judged against; bounded over each half of ${rails.length > 1 ? 'their ranges' : 'its range'} in turn (${boxes.length} cases), it keeps the required margin${after ? `, ${after} at worst` : ''}`;
 }
 
 /** Unchecked nets last; the rest by slack, least first. */

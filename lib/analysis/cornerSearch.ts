@@ -384,7 +384,12 @@ const searchWork = new WeakMap<Design, number>();
 
 /** What is left of `CORNER_WORK` in one check. */
 export class CornerBudget {
-  constructor(public left = CORNER_WORK) {}
+  /** The work the check started with. */
+  readonly total: number;
+
+  constructor(public left = CORNER_WORK) {
+    this.total = left;
+  }
 
   /** Whether `corners` corners of `w` can be planned for; a search is then capped at what is left. */
   affords(w: WholeDesign, corners: number): boolean {
@@ -407,10 +412,10 @@ export class CornerBudget {
    * it: its nets stand for its unknowns, 2 to its toleranced parameters (at most
    * 2^`EXHAUSTIVE_PARAMETERS`) for the corners, `questions` searches.
    */
-  couldAfford(design: Design, questions = 1): boolean {
+  couldAfford(design: Design, questions = 1, left = this.left): boolean {
     let work = searchWork.get(design);
     if (work === undefined) searchWork.set(design, (work = 2 ** Math.min(EXHAUSTIVE_PARAMETERS, designParameters(design).length) * ITERATIONS_PER_CORNER * designNets(design).length));
-    return questions * work <= this.left;
+    return questions * work <= left;
   }
 }
 

@@ -1,4 +1,4 @@
-import type { Design } from '../design/model.js';
+import { designNets, type Design } from '../design/model.js';
 import type { StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold, type StateHint } from '../solve/operatingPoint.js';
 import type { AgeingScenario } from './ageing.js';
@@ -11,6 +11,7 @@ import { unityGainPoints } from './unityGain.js';
 import { cutoffGrid } from './gridMargins.js';
 import { P } from '../models/tubeEquations.js';
 import { firstOfEach } from '../lists.js';
+import { designParameters } from './parameters.js';
 
 /**
  * Bracketed verdicts for nets: a net whose bound misses the requirement is put to the
@@ -207,8 +208,13 @@ export class Refiner {
     let states = 0;
     for (const s of this.states!) {
       const w = this.whole(s.moved);
-      // What a search would cost is known before any solve: past the budget, nothing is solved.
-      if (!this.budget.affords(w, w.corners)) return undefined;
+      // What a search would cost is known before any solve: past the budget, nothing more is
+      // solved, and what the states searched so far found stands, short of every corner.
+      if (!this.budget.affords(w, w.corners)) {
+        if (corners === 0) return undefined;
+        exhaustive = false;
+        break;
+      }
       const start = this.start(s);
       const t = w.problem.circuit.terminalOf.get(net);
       if (!start || t === undefined) continue;
@@ -510,6 +516,18 @@ export class Refiner {
    * the net's states cannot be listed or the budget is spent (its bound's verdict then
    * stands, undecided).
    */
+  /**
+   * Why `refine` searched nothing: the states cannot be listed, the design is too large for
+   * one search of its corners even within the whole budget, or the budget went on other nets.
+   */
+  notSearched(): string {
+    if (!this.states) return 'the design has too many contact and latch states to search its corners';
+    if (!this.budget.couldAfford(this.design, 1, this.budget.total)) {
+      return `the design is too large to search its corners within this check's budget (${designParameters(this.design).length.toLocaleString('en')} toleranced parameters, ${designNets(this.design).length.toLocaleString('en')} nets; no corner was solved)`;
+    }
+    return "this check's budget for corners of the whole design is spent";
+  }
+
   refine(n: NetCheck, required: number, questions: RefineQuestion[]): NetRefinement | undefined {
     const searches = questions.some((q) => q === 'cutoff' || !this.seeds.get(n.name)?.[q]);
     if (searches && (!this.states || (this.wholes.size === 0 && !this.budget.couldAfford(this.design)))) return undefined;
@@ -582,7 +600,11 @@ export class Refiner {
       return { status: 'undecided', basis: 'undecided', found, witness: undefined, corners, reason: `its bound fails, and ${why}` };
     }
     const why = !exhaustive ? 'not every corner was solved' : !cleared ? 'the level found does not clear the worst-case thresholds' : 'not every state of its contacts and latches was searched';
-    return { status: 'undecided', basis: 'undecided', found, witness: undefined, corners, reason: `no corner searched fails it (${corners.toLocaleString('en')} solved), but its bound does, and ${why}` };
+    const against = (['high', 'low'] as const).flatMap((q) => {
+      const bound = q === 'high' ? n.high?.worst : n.low?.worst;
+      return found[q] === undefined || bound === undefined ? [] : [`worst ${q} found ${found[q]!.toFixed(2)} V, bound ${bound.toFixed(2)} V`];
+    });
+    return { status: 'undecided', basis: 'undecided', found, witness: undefined, corners, reason: `no corner searched fails it (${corners.toLocaleString('en')} solved${against.length ? `; ${against.join(', ')}` : ''}), but its bound does, and ${why}` };
   }
 }
 
@@ -714,7 +736,7 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
     if (flatInputs.has(n.name) && r?.status !== 'fail') {
       n.found = r?.found;
       const gain = refiner.gainWitness(n, flatInputs.get(n.name)!);
-      const levels = r ? `no corner of the whole design fails its levels (${r.corners.toLocaleString('en')} solved)` : "its levels were not searched (this check's budget for corners is spent)";
+      const levels = r ? `no corner of the whole design fails its levels (${r.corners.toLocaleString('en')} solved)` : `its levels were not searched (${refiner.notSearched()})`;
       if (gain) {
         n.basis = 'witness';
         n.witness = gain;
@@ -740,7 +762,7 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
     if (!r) {
       n.status = 'undecided';
       n.basis = 'undecided';
-      n.reasons.unshift(refiner.states ? "undecided: the bound fails, and this check's budget for corners of the whole design is spent" : 'undecided: the bound fails, and the design has too many contact and latch states to search its corners');
+      n.reasons.unshift(`undecided: the bound fails, and ${refiner.notSearched()}`);
       continue;
     }
     n.status = r.status;

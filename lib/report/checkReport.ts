@@ -49,6 +49,9 @@ export interface ReportJson {
     /** A corner where the whole design fails this net: re-solve it with `solve --at`. */
     witness: Witness | null;
     witnessWhy?: string;
+    /** How a net whose whole-range bound failed was shown to pass (on halves of the rails' ranges, or at every corner). */
+    note: string | null;
+    noteWhy?: string;
     causes: { parameter: string; kind: string; end: 'low' | 'high'; value: number; effectVolts: number }[];
   }[];
   latches: {
@@ -185,14 +188,15 @@ export function checkToJson(design: Design, r: CheckResult, mc?: MonteCarloResul
           stage: x.stage,
           ...figure('vil', x.vilMin, 'the receiving stage never reaches a gain of 1 seen from this net: it has no unity-gain point'),
           ...figure('vih', x.vihMax, 'the receiving stage never reaches a gain of 1 seen from this net: it has no unity-gain point'),
-          ...figure('marginHigh', n.high && x.vihMax !== undefined ? n.high.worst - x.vihMax : undefined, !n.high ? neverWhy('high', n) : 'this input has no VIH'),
-          ...figure('marginLow', n.low && x.vilMin !== undefined ? x.vilMin - n.low.worst : undefined, !n.low ? neverWhy('low', n) : 'this input has no VIL'),
+          ...figure('marginHigh', x.boxMargins ? x.boxMargins.high : n.high && x.vihMax !== undefined ? n.high.worst - x.vihMax : undefined, !n.high ? neverWhy('high', n) : 'this input has no VIH'),
+          ...figure('marginLow', x.boxMargins ? x.boxMargins.low : n.low && x.vilMin !== undefined ? x.vilMin - n.low.worst : undefined, !n.low ? neverWhy('low', n) : 'this input has no VIL'),
         })),
         status: n.status,
         reasons: n.reasons,
         basis: n.basis,
         ...named('found', n.found && { ...figure('high', n.found.high, 'not searched: its high level passes by its bound, or it is never high'), ...figure('low', n.found.low, 'not searched: its low level passes by its bound, or it is never low') }, foundWhy(n)),
         ...named('witness', n.witness, witnessWhy(n)),
+        ...named('note', n.note, 'nothing beyond its bound and its basis decided it'),
         causes: (n.weakest?.causes ?? []).filter((c) => Number.isFinite(c.value) && Number.isFinite(c.volts)).map((c) => ({ parameter: c.target, kind: c.kind, end: c.end, value: c.value, effectVolts: c.volts })),
       };
     }),
@@ -496,7 +500,11 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
   // whose latch cannot hold is not grouped with one whose level fails), at most MAX_EXPLAINED.
   const judged = r.nets.filter((n) => n.status !== 'unchecked');
   const witnessKind = (w: Witness | undefined) => (!w ? '' : w.level ? 'level' : w.grid ? 'grid' : w.gain ? 'gain' : 'latch');
-  const group = (n: NetCheck) => `${n.classId}|${n.status}|${witnessKind(n.witness)}`;
+  // Alike: one verdict come to the same way, with the same figures to the millivolt (nets
+  // of one class always are; nets of different classes often are, e.g. ten copies of a
+  // block whose boundaries differ only in names).
+  const mv = (x: number | undefined) => (x === undefined ? '-' : x.toFixed(3));
+  const group = (n: NetCheck) => [n.status, n.basis, witnessKind(n.witness), mv(n.high?.worst), mv(n.low?.worst), mv(n.margin.high), mv(n.margin.low), mv(n.cutoffMargin?.volts), mv(n.found?.high), mv(n.found?.low), n.reasons.length].join('|');
   const heads = firstOfEach(judged, group);
   const wanted = heads.filter((n, i) => i < 3 || n.status === 'fail' || n.status === 'undecided');
   const explained = wanted.slice(0, MAX_EXPLAINED);
@@ -511,7 +519,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
           : n.weakest?.what === 'low'
             ? `worst low ${v(n.low?.worst)} V, NM_L ${v(n.margin.low)} V`
             : `worst high ${v(n.high?.worst)} V, NM_H ${v(n.margin.high)} V`);
-      append(out, indented(`${k + 1}. ${n.name} (${statusText(n)}): ${n.note ?? summary}`, '', '     '));
+      append(out, indented(`${k + 1}. ${n.name} (${statusText(n)}): ${n.note && n.basis === 'bounds' ? `${summary}; ${n.note}` : (n.note ?? summary)}`, '', '     '));
       // A latch's witness is printed once, with the latch.
       if (n.witness && (n.witness.level || n.witness.grid || n.witness.gain)) append(out, renderWitness(n.witness, source, n.name, again));
       const alike = judged.filter((m) => group(m) === group(n) && m !== n);

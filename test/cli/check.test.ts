@@ -10,7 +10,7 @@ describe('tubemargin check', () => {
     expect(r.code).toBe(1);
     expect(r.out).toMatch(/^FAIL/m);
     expect(r.out).toContain('cannot hold a state');
-    expect(r.out).toMatch(/q\.v1 is not cut off while q is high/);
+    expect(r.out).toMatch(/\b(n?q)\.v1 is not cut off while \1 is high/);
     expect(r.out).toMatch(/\n {2}nq ↔ q +NO /);
   });
 
