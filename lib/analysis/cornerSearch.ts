@@ -506,7 +506,7 @@ export function reproduceWitness(design: Design, witness: Witness, graph?: Stage
     const judged =
       level.against.what === 'logic threshold'
         ? `its ${level.state} level on the ${fails ? 'wrong' : 'right'} side of its logic threshold ${level.against.volts.toFixed(3)} V`
-        : `${margin.toFixed(3)} V from ${level.against.what} ${level.against.volts.toFixed(3)} V, ${level.required.toFixed(2)} V required`;
+        : `${margin.toFixed(3)} V from ${level.against.what} ${level.against.volts.toFixed(3)} V (as the witness gives it), ${level.required.toFixed(2)} V required`;
     return { op, reproduced: Math.abs(volts - level.volts) <= 1e-3 && fails, seen: `${level.net} at ${volts.toFixed(3)} V (the witness says ${level.volts.toFixed(3)} V): ${judged}`, unknown: at.unknown };
   }
   const grid = witness.grid;

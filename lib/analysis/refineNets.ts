@@ -529,18 +529,25 @@ export class Refiner {
   }
 
   refine(n: NetCheck, required: number, questions: RefineQuestion[]): NetRefinement | undefined {
-    const searches = questions.some((q) => q === 'cutoff' || !this.seeds.get(n.name)?.[q]);
-    if (searches && (!this.states || (this.wholes.size === 0 && !this.budget.couldAfford(this.design)))) return undefined;
+    // Questions the whole-design levels answered (`tightenLevels`) cost nothing: asked first,
+    // and still asked where the budget leaves no search for the others.
+    const seeded = (q: RefineQuestion) => q !== 'cutoff' && this.seeds.get(n.name)?.[q] !== undefined;
+    let asked = [...questions].sort((a, b) => Number(seeded(b)) - Number(seeded(a)));
+    let exhaustive = true;
+    if (asked.some((q) => !seeded(q)) && (!this.states || (this.wholes.size === 0 && !this.budget.couldAfford(this.design)))) {
+      asked = asked.filter(seeded);
+      exhaustive = false;
+    }
+    let answered = 0;
     const threshold = n.thresholdVolts;
     const found: NetRefinement['found'] = { high: undefined, low: undefined };
     let corners = 0;
-    let exhaustive = true;
     let inStates = 0;
     let witness: Witness | undefined;
     let cleared = true;
     const vihBound = n.receivers.reduce<number | undefined>((m, r) => (r.vihMax === undefined ? m : Math.max(m ?? -Infinity, r.vihMax)), undefined);
     const vilBound = n.receivers.reduce<number | undefined>((m, r) => (r.vilMin === undefined ? m : Math.min(m ?? Infinity, r.vilMin)), undefined);
-    for (const q of questions) {
+    for (const q of asked) {
       if (q === 'cutoff') {
         // Each driver's grid against its cathode, pushed up while the net is high; cut off or not at that corner.
         for (const section of this.chain.nets.get(n.name)?.drivers ?? []) {
@@ -554,7 +561,11 @@ export class Refiner {
             ];
           };
           const r = this.worstOver(n.name, true, terms, 'max');
-          if (!r) return undefined;
+          if (!r) {
+            exhaustive = false;
+            continue;
+          }
+          answered++;
           corners += r.corners;
           inStates += r.states;
           exhaustive &&= r.exhaustive;
@@ -575,7 +586,11 @@ export class Refiner {
       }
       const high = q === 'high';
       const r = this.worstOver(n.name, high, (w) => [{ terminal: w.terminal(n.name), weight: 1 }], high ? 'min' : 'max', true);
-      if (!r) return undefined;
+      if (!r) {
+        exhaustive = false;
+        continue;
+      }
+      answered++;
       corners += r.corners;
       inStates += r.states;
       exhaustive &&= r.exhaustive;
@@ -591,6 +606,8 @@ export class Refiner {
       cleared &&= clears;
     }
     if (witness) return { status: 'fail', basis: 'witness', found, witness, corners, reason: `at the corner of its witness, ${witness.shows}` };
+    // Nothing asked could be afforded: the bound's verdict stands, undecided.
+    if (answered === 0) return undefined;
     if (exhaustive && cleared && this.complete) {
       return { status: 'pass', basis: 'corners', found, witness: undefined, corners, reason: `every corner of the whole design keeps it within its limits (${corners.toLocaleString('en')} corners solved); the chained bounds alone could not show it` };
     }
@@ -717,7 +734,10 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
     return true;
   };
   const lostLatch = new Map(latches.filter((l) => l.basis === 'witness').flatMap((l) => l.nets.map((net) => [net, l] as const)));
-  for (const n of nets) {
+  // Nets whose questions the whole-design levels already answer go first: they cost no
+  // search, and a search of the weakest net must not spend the budget they need nothing of.
+  const searches = (n: NetCheck) => (n.refinable ?? []).some((q) => q === 'cutoff' || !ctx.seeds?.get(n.name)?.[q]);
+  for (const n of [...nets].sort((a, b) => Number(searches(a)) - Number(searches(b)))) {
     if (n.status !== 'fail') continue;
     const latch = lostLatch.get(n.name);
     if (latch) {

@@ -161,6 +161,8 @@ function searchState(
     const x = w.state(hints, values);
     return x !== undefined && solveAt(values, x);
   };
+  // Far from its neighbours (the polish's golden-section probes, the allowance's moves to a band's other end), a point is rescued too.
+  const solveSure = (values: Float64Array, from: Float64Array): boolean => solveAt(values, from) || rescue(values);
   if (judged.length === 0 || !solveAt(w.nominal, start)) return { found, corners: 0 };
   const nominal = Float64Array.from(problem.solution);
   // Each net's slopes at nominal, as effects across the bands, worse-ward positive.
@@ -198,9 +200,9 @@ function searchState(
     group.forEach((k, g) => {
       const j = judged[k]!;
       const sign = j.high ? -1 : 1;
-      const p = polish(problem, bands, worst[g]!.at, nominal, j.terminal, sign, solveAt);
+      const p = polish(problem, bands, worst[g]!.at, nominal, j.terminal, sign, solveSure);
       if (!p) return;
-      const allowance = restAllowance(problem, bands, varied, rest, p, j.terminal, sign, solveAt);
+      const allowance = restAllowance(problem, bands, varied, rest, p, j.terminal, sign, solveSure);
       if (allowance === undefined) return;
       const effect = (i: number) => Math.abs(p.slopes[i]! * (bands[i]!.high - bands[i]!.low));
       const ranked = [...varied].sort((a, b) => effect(b) - effect(a));
