@@ -3,7 +3,7 @@ import type { StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold, type StateHint } from '../solve/operatingPoint.js';
 import type { AgeingScenario } from './ageing.js';
 import type { NetCheck, ReceiverMargin } from './check.js';
-import { CORNER_WORK, CornerBudget, decideLatch, gainCurveAt, ITERATIONS_PER_CORNER, INTERFACE_SUFFIX, latchHeld, positionsAfter, searchCorners, WholeDesign, WITNESS_KEY, witnessName, withPositions, type LatchState, type Witness } from './cornerSearch.js';
+import { CORNER_WORK, CornerBudget, decideLatch, gainCurveAt, ITERATIONS_PER_CORNER, INTERFACE_SUFFIX, latchHeld, positionsAfter, reproduceWitness, searchCorners, WholeDesign, WITNESS_KEY, witnessName, withPositions, type LatchState, type Witness } from './cornerSearch.js';
 import type { LatchResult } from './latchCheck.js';
 import type { ChainNet, LevelChain } from './levelChain.js';
 import { receiverThresholds, sweepCurve, sweepRange, SWEEP_POINTS } from './receiverThresholds.js';
@@ -372,19 +372,7 @@ export class Refiner {
     // Charged to the spare budget: a design of thousands of alike nets cannot pay a whole solve for each.
     if (!mw?.level || this.spare.left <= 0) return undefined;
     const high = mw.level.state === 'high';
-    const swap = new Map<string, string>();
-    const pair = (a: string, b: string, depth: number): void => {
-      const ca = this.chain.nets.get(a);
-      const cb = this.chain.nets.get(b);
-      if (!ca || !cb || ca.kind !== cb.kind || depth < 0) return;
-      ca.region.parts.forEach((p, i) => {
-        const q = cb.region.parts[i]!;
-        if (p.name === q.name || swap.has(p.name) || swap.has(q.name)) return;
-        swap.set(p.name, q.name).set(q.name, p.name);
-      });
-      ca.feeders.forEach((fs, i) => fs.forEach((f, j) => cb.feeders[i]?.[j] !== undefined && pair(f, cb.feeders[i]![j]!, depth - 1)));
-    };
-    pair(model.name, n.name, 1);
+    const swap = partExchange(this.chain, [[model.name, n.name]]);
     const state: WholeState = {
       moved: this.design.parts.flatMap((p) => (p.type === 'switch' && mw.positions[p.name] !== undefined && (mw.positions[p.name] === 'closed') !== p.closed ? [p.name] : [])),
       hints: Object.entries(mw.states).map(([net, v]) => ({ net, high: v === 'high' })),
@@ -698,6 +686,58 @@ export interface RefineContext {
 }
 
 /**
+ * The parts of alike nets' regions exchanged position by position, both ways (`a`'s k-th
+ * part ↔ `b`'s k-th), for each pair of nets and, one level out, the nets feeding them:
+ * where a witness of one names a part, the image for the other names its counterpart.
+ */
+function partExchange(chain: LevelChain, pairs: readonly (readonly [string, string])[]): Map<string, string> {
+  const swap = new Map<string, string>();
+  const pair = (a: string, b: string, depth: number): void => {
+    const ca = chain.nets.get(a);
+    const cb = chain.nets.get(b);
+    if (!ca || !cb || ca.kind !== cb.kind || depth < 0) return;
+    ca.region.parts.forEach((p, i) => {
+      const q = cb.region.parts[i]!;
+      if (p.name === q.name || swap.has(p.name) || swap.has(q.name)) return;
+      swap.set(p.name, q.name).set(q.name, p.name);
+    });
+    ca.feeders.forEach((fs, i) => fs.forEach((f, j) => cb.feeders[i]?.[j] !== undefined && pair(f, cb.feeders[i]![j]!, depth - 1)));
+  };
+  for (const [a, b] of pairs) pair(a, b, 1);
+  return swap;
+}
+
+/**
+ * A latch that lost a state (`model`, with its witness) seen in an alike latch `l` (its
+ * nets of the same classes): the witness's values with the parts around the two latches
+ * exchanged, its states and contacts moved over. Undefined where the classes do not match.
+ */
+function latchImage(chain: LevelChain, classOf: ReadonlyMap<string, number>, model: LatchResult, l: LatchResult): Witness | undefined {
+  const mw = model.witness!;
+  const [ma, mb] = model.nets;
+  const [a, b] = classOf.get(ma) === classOf.get(l.nets[0]) && classOf.get(mb) === classOf.get(l.nets[1]) ? l.nets : classOf.get(ma) === classOf.get(l.nets[1]) && classOf.get(mb) === classOf.get(l.nets[0]) ? [l.nets[1], l.nets[0]] : [];
+  if (!a || !b) return undefined;
+  const swap = partExchange(chain, [[ma, a], [mb, b]]);
+  const image = (name: string) => {
+    const [part, suffix] = name.endsWith(INTERFACE_SUFFIX) ? [name.slice(0, -INTERFACE_SUFFIX.length), INTERFACE_SUFFIX] : [name, ''];
+    return `${swap.get(part) ?? part}${suffix}`;
+  };
+  const onto = new Map([[ma, a], [mb, b]]);
+  const states = Object.fromEntries(Object.entries(mw.states).map(([net, v]) => [onto.get(net) ?? net, v]));
+  const [high, low] = Object.entries(states).sort(([, x]) => (x === 'high' ? -1 : 1)).map(([net]) => net);
+  return {
+    values: Object.fromEntries(Object.entries(mw.values).map(([k, v]) => [image(k), v])),
+    key: mw.key.map(image),
+    positions: Object.fromEntries(Object.entries(mw.positions).map(([k, v]) => [image(k), v])),
+    states,
+    shows: `the state with ${high} high and ${low} low does not exist: the whole design, started in it, settles elsewhere (the witness of ${model.nets.join(' ↔ ')}, the parts around the two exchanged)`,
+  };
+}
+
+/** Latch images tried at most, each a whole solve: a design of thousands of alike latches cannot pay one for each. */
+const LATCH_IMAGES = 32;
+
+/**
  * The last pass of `check`: every latch its bounds cannot show to hold, and every net its
  * bound fails on something corners can decide, put to the corners of the whole design
  * within one `CornerBudget`. Latches first (a net of a latch that cannot hold takes the
@@ -715,6 +755,24 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
       continue;
     }
     decideLatch((whole ??= new WholeDesign(design, graph, scenario)), l, budget);
+  }
+  // A latch alike to one that lost a state is tried at its witness's image, one solve each.
+  const classOf = new Map(nets.map((n) => [n.name, n.classId]));
+  const lost = latches.filter((l) => l.basis === 'witness' && l.witness);
+  let images = 0;
+  for (const l of latches) {
+    if (l.basis !== 'undecided' || images >= LATCH_IMAGES) continue;
+    for (const model of lost) {
+      const witness = latchImage(chain, classOf, model, l);
+      if (!witness) continue;
+      images++;
+      if (!reproduceWitness(design, witness, graph).reproduced) break;
+      l.holds = false;
+      l.basis = 'witness';
+      l.witness = witness;
+      l.reasons = [`it cannot hold a state: at the corner of its witness, ${witness.shows}`];
+      break;
+    }
   }
   // A net whose bound fails on its levels is put to the corners of the whole design.
   let refiner: Refiner | undefined;
