@@ -300,7 +300,7 @@ export class Refiner {
     if (!failure) return undefined;
     const { at, volts, against } = failure;
     const q = high ? 'high' : 'low';
-    const shows = `${n.name} ${q} at ${volts.toFixed(3)} V against ${against.what === 'logic threshold' ? 'its logic threshold' : `${against.stage}'s ${against.what}`} ${against.volts.toFixed(3)} V${against.what === 'logic threshold' ? '' : `: a noise margin below the required ${required.toFixed(2)} V`}`;
+    const shows = `${n.name} ${q} at ${volts.toFixed(3)} V against ${against.what === 'logic threshold' ? 'its logic threshold' : `${against.stage}'s ${against.what}`} ${against.volts.toFixed(3)} V${against.what === 'logic threshold' ? '' : (high ? volts < against.volts : volts > against.volts) ? `: past it, no noise margin left (${required.toFixed(2)} V required)` : `: a noise margin of ${Math.abs(volts - against.volts).toFixed(3)} V, below the required ${required.toFixed(2)} V`}`;
     return this.witnessAt(at, shows, { net: n.name, state: q, volts, against, required: against.what === 'logic threshold' ? 0 : required });
   }
 

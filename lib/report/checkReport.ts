@@ -517,8 +517,8 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
         (n.weakest?.what === 'cutoff'
           ? `cutoff margin ${v(n.cutoffMargin?.volts)} V`
           : n.weakest?.what === 'low'
-            ? `worst low ${v(n.low?.worst)} V, NM_L ${v(n.margin.low)} V`
-            : `worst high ${v(n.high?.worst)} V, NM_H ${v(n.margin.high)} V`);
+            ? `worst low ${v(n.low?.worst)} V, ${n.margin.low === undefined ? 'no input to judge NM_L against' : `NM_L ${v(n.margin.low)} V`}`
+            : `worst high ${v(n.high?.worst)} V, ${n.margin.high === undefined ? 'no input to judge NM_H against' : `NM_H ${v(n.margin.high)} V`}`);
       append(out, indented(`${k + 1}. ${n.name} (${statusText(n)}): ${n.note && n.basis === 'bounds' ? `${summary}; ${n.note}` : (n.note ?? summary)}`, '', '     '));
       // A latch's witness is printed once, with the latch.
       if (n.witness && (n.witness.level || n.witness.grid || n.witness.gain)) append(out, renderWitness(n.witness, source, n.name, again));

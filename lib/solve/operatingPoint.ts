@@ -341,7 +341,8 @@ function trustedRangeWarnings(design: Design, tubes: TubeOperatingPoint[]): Diag
     const [lo, hi] = entry.trustedPlateVolts;
     const outside = vaks.filter((v) => v < lo || v > hi);
     if (outside.length === 0) continue;
-    const range = `${lowest(outside).toFixed(1)}–${highest(outside).toFixed(1)} V`;
+    const [a, b] = [lowest(outside).toFixed(1), highest(outside).toFixed(1)];
+    const range = a === b ? `${a} V` : `${a}–${b} V`;
     out.push(
       warning('outside-trusted-range', `${model.name} (${entry.designation}) is trusted from ${lo} to ${hi} V on the plate; ${outside.length} conducting section${outside.length === 1 ? '' : 's'} here run${outside.length === 1 ? 's' : ''} at ${range}`, model.span, [
         'fit the type to bench readings of your own tubes at these voltages before trusting the levels',
