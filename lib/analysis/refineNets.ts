@@ -499,12 +499,6 @@ export class Refiner {
   }
 
   /**
-   * Refines a failing net whose failure is in its levels or its drivers' cutoff: each
-   * question the bound fails is searched for over the states it arises in. Undefined when
-   * the net's states cannot be listed or the budget is spent (its bound's verdict then
-   * stands, undecided).
-   */
-  /**
    * Why `refine` searched nothing: the states cannot be listed, the design is too large for
    * one search of its corners even within the whole budget, or the budget went on other nets.
    */
@@ -516,6 +510,13 @@ export class Refiner {
     return "this check's budget for corners of the whole design is spent";
   }
 
+  /**
+   * Refines a failing net whose failure is in its levels or its drivers' cutoff: each
+   * question the bound fails is searched for over the states it arises in, those the
+   * whole-design levels already answered first. Undefined when no question could be
+   * answered (the states cannot be listed, or the budget is spent): its bound's verdict
+   * then stands, undecided.
+   */
   refine(n: NetCheck, required: number, questions: RefineQuestion[]): NetRefinement | undefined {
     // Questions the whole-design levels answered (`tightenLevels`) cost nothing: asked first,
     // and still asked where the budget leaves no search for the others.
