@@ -26,6 +26,13 @@ export function highest(xs: ArrayLike<number>): number {
   return m;
 }
 
+/** The largest magnitude in a list (0 for none; NaN if any is NaN). Example: `largestMagnitude([1, -3, 2])` is 3. */
+export function largestMagnitude(xs: ArrayLike<number>): number {
+  let m = 0;
+  for (let i = 0; i < xs.length; i++) m = Math.max(m, Math.abs(xs[i]!));
+  return m;
+}
+
 /**
  * Appends `items` to `out` in place, by a loop: `out.push(...items)` passes every item as an
  * argument and overflows the stack for a table of 10⁵ rows (the resistors of a large

@@ -8,7 +8,7 @@ import { emissionBand, type AgeingScenario } from './ageing.js';
 import { localDesign } from './localDesign.js';
 import type { Region } from './region.js';
 import type { Band, Probe } from './vertex.js';
-import { highest, lowest } from '../lists.js';
+import { highest, largestMagnitude, lowest } from '../lists.js';
 
 /**
  * One toleranced quantity of a local problem. Kinds beyond the design's own parameters:
@@ -198,9 +198,7 @@ export class LocalProblem {
     if (first.converged) {
       // The residual Newton measured at the accepted point, gmin's share added, already
       // bounds the real circuit's: no second assembly unless that bound exceeds 1 nA.
-      let largest = 0;
-      for (let i = 0; i < x.length; i++) largest = Math.max(largest, Math.abs(x[i]!));
-      if (first.residual + this.settings.gmin * largest <= RESIDUAL_LIMIT) return (this.warm = this.accepted(0));
+      if (first.residual + this.settings.gmin * largestMagnitude(x) <= RESIDUAL_LIMIT) return (this.warm = this.accepted(0));
       return (this.warm = this.accepted(sys.trueResidual(x)));
     }
     x.set(start);

@@ -2,6 +2,7 @@ import { R, evaluateTube, P } from '../models/tubeEquations.js';
 import type { Circuit } from './circuit.js';
 import type { LinearSystem, LinearSystemFactory } from './linearSystem.js';
 import { SparseLu } from './sparseLu.js';
+import { largestMagnitude } from '../lists.js';
 
 /** Settings of one Newton run. */
 export interface NewtonSettings {
@@ -65,13 +66,6 @@ function stampBranch(f: Float64Array, v: Float64Array, slots: Int32Array, o: num
  * and 1e3 V both let Newton converge, in 60 and 54 iterations at 2,000 stages.
  */
 const WILD_STEP = 1e3;
-
-/** The largest magnitude in `v`. */
-function largestMove(v: Float64Array): number {
-  let m = 0;
-  for (let i = 0; i < v.length; i++) m = Math.max(m, Math.abs(v[i]!));
-  return m;
-}
 
 /** A diode's exponent is linearised above this many n·Vt (or where its current passes 10 A), to keep exp finite. */
 const MAX_DIODE_EXPONENT = 40;
@@ -343,7 +337,7 @@ export class DcSystem {
     const tried = (): number | undefined => {
       if (!this.lu.factor()) return undefined;
       this.lu.solve(this.f, this.dx);
-      const step = largestMove(this.dx);
+      const step = largestMagnitude(this.dx);
       return Number.isFinite(step) ? step : undefined;
     };
     const first = tried();
@@ -493,10 +487,7 @@ export class DcSystem {
   /** Largest KCL residual of the real circuit (no gmin, no pins, full sources) at `x`; leaves the residuals in `f`. */
   trueResidual(x: Float64Array): number {
     this.assemble(x, { gmin: 0, sourceScale: 1, maxStep: Infinity, maxIterations: 0 });
-    const f = this.f;
-    let amps = 0;
-    for (let i = 0; i < f.length; i++) amps = Math.max(amps, Math.abs(f[i]!));
-    return amps;
+    return largestMagnitude(this.f);
   }
 
   /** The nodes with the largest residuals after `trueResidual`, largest first: for a non-convergence report. */

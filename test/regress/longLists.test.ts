@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { highest, lowest } from '../../lib/lists.js';
+import { highest, largestMagnitude, lowest } from '../../lib/lists.js';
 import { fitReadings, type Reading } from '../../lib/index.js';
 import { MAX_READINGS } from '../../lib/models/fit.js';
 
@@ -16,7 +16,9 @@ describe('lists longer than a call can take as arguments', () => {
     for (const list of [[], [1], [3, -2, 7], [0, NaN, 1]]) {
       expect(lowest(list)).toBe(Math.min(...list));
       expect(highest(list)).toBe(Math.max(...list));
+      expect(largestMagnitude(list)).toBe(Math.max(0, ...list.map(Math.abs)));
     }
+    expect(largestMagnitude(xs)).toBe(1000);
   });
 
   it('refuses 200,000 readings at once, without overflowing the stack, and fits the most it takes', () => {
