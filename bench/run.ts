@@ -7,6 +7,7 @@ import { benchDemoYield, benchSampling } from './samplingBench.js';
 import { benchPulse } from './pulseBench.js';
 import { familyDesigns, gateDesigns } from './family.js';
 import { runFamily } from './familyOracle.js';
+import { benchStartup, startupTable } from './startupBench.js';
 
 /**
  * `npm run bench`: measures, in one run, what the goals in docs/PERFORMANCE.md are about,
@@ -177,6 +178,10 @@ const pulseTable = [
 ].join('\n');
 process.stdout.write(pulseTable + '\n');
 
+// ---- start-up ----------------------------------------------------------------------------
+const startup = startupTable(benchStartup());
+process.stdout.write(startup + '\n');
+
 if (process.argv.includes('--write')) {
   const path = new URL('../../docs/PERFORMANCE.md', import.meta.url);
   let doc = readFileSync(path, 'utf8');
@@ -195,6 +200,7 @@ if (process.argv.includes('--write')) {
   put('gates', gateTable);
   put('sampling', samplingTable);
   put('pulse', pulseTable);
+  put('startup', startup);
   writeFileSync(path, doc);
   process.stdout.write('docs/PERFORMANCE.md updated\n');
 }

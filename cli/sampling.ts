@@ -2,7 +2,6 @@ import { existsSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
-import { SingleBar } from 'cli-progress';
 import { designToJson, Sampler, summarizeSamples, type Design, type MonteCarloResult, type SampleOutcome, type SamplingSetup } from '../lib/index.js';
 import type { CliIo } from './io.js';
 
@@ -22,7 +21,8 @@ export const MAX_SAMPLES = 1_000_000;
  * rate and the end of the line, which are fiddly to get right by hand and are not our job.
  */
 export async function runSamples(design: Design, setup: SamplingSetup, samples: number, workers: number, io: CliIo): Promise<MonteCarloResult> {
-  const bar = io.stderrIsTTY ? new SingleBar({ stream: process.stderr, format: 'samples [{bar}] {value}/{total} {eta_formatted} left', hideCursor: true }) : undefined;
+  // cli-progress is loaded only where a bar is drawn: every command imports this module.
+  const bar = io.stderrIsTTY ? new (await import('cli-progress')).SingleBar({ stream: process.stderr, format: 'samples [{bar}] {value}/{total} {eta_formatted} left', hideCursor: true }) : undefined;
   bar?.start(samples, 0);
   // Worker threads run the compiled worker; where it is not there (the sources run directly, as
   // in the tests) the samples run in this thread, with the same result.

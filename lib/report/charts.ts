@@ -1,5 +1,4 @@
-import { parse, View, None } from 'vega';
-import { compile, type TopLevelSpec } from 'vega-lite';
+import type { TopLevelSpec } from 'vega-lite';
 import type { StageKind } from '../analysis/check.js';
 import type { LatchResult } from '../analysis/latchCheck.js';
 import type { MonteCarloResult } from '../analysis/monteCarlo.js';
@@ -17,8 +16,13 @@ export const PALETTE = { ink: '#2b2d42', pass: '#2a7f62', fail: '#b23a48', guide
 
 const FONT = { font: 'Georgia, serif', labelFont: 'Georgia, serif', titleFont: 'Georgia, serif' };
 
-/** Renders a Vega-Lite spec to an SVG string. */
+/**
+ * Renders a Vega-Lite spec to an SVG string. Vega and Vega-Lite are loaded here, on the
+ * first chart, not when the module is: together they take about a quarter of a second to
+ * load, which every command paid at start-up when only `report` and `pulse` draw.
+ */
 export async function svgOf(spec: TopLevelSpec): Promise<string> {
+  const [{ parse, View, None }, { compile }] = await Promise.all([import('vega'), import('vega-lite')]);
   const view = new View(parse(compile(spec).spec), { renderer: 'none', logLevel: None });
   const svg = await view.toSVG();
   view.finalize();

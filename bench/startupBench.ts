@@ -1,0 +1,91 @@
+import { execFileSync } from 'node:child_process';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { loadDesign, solveOperatingPoint } from '../lib/index.js';
+import { generateRegister } from './generate.js';
+
+/** What a command costs before it does its work, and what `solve` as a command costs beside the same solve in a running process. */
+export interface StartupBench {
+  /** Median wall times in milliseconds of `node -e 0`, `tubemargin --version` and `tubemargin show` of the small demo. */
+  bareMs: number;
+  versionMs: number;
+  showMs: number;
+  /** The register's size, the `solve` command's time, and load + solve in this process. */
+  stages: number;
+  solveCommandMs: number;
+  solveInProcessMs: number;
+}
+
+const root = fileURLToPath(new URL('../..', import.meta.url));
+const launcher = join(root, 'bin', 'tubemargin.js');
+
+function median(xs: number[]): number {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.floor(s.length / 2)] as number;
+}
+
+/** Median wall time of a child process `node ...args` over `runs` runs after one warm-up (the file cache). Exit code 1 (a check failed) is a finished run. */
+function spawnMs(args: string[], runs: number): number {
+  const once = () => {
+    const t0 = performance.now();
+    try {
+      execFileSync(process.execPath, args, { cwd: root, stdio: 'ignore' });
+    } catch (e) {
+      if ((e as { status?: number }).status !== 1) throw e;
+    }
+    return performance.now() - t0;
+  };
+  once();
+  return median(Array.from({ length: runs }, once));
+}
+
+/**
+ * Measures start-up (issue #16): the goals are `--version` and `show` of a small demo
+ * within 3× a bare node start, and `solve` of a 1,000-stage design as a command within
+ * 2× the in-process load + solve plus that start-up.
+ */
+export function benchStartup(stages = 1000, runs = 7): StartupBench {
+  const bareMs = spawnMs(['-e', '0'], runs);
+  const versionMs = spawnMs([launcher, '--version'], runs);
+  const showMs = spawnMs([launcher, 'show', 'nets/nor-adder.tube'], runs);
+  const dir = mkdtempSync(join(tmpdir(), 'tubemargin-bench-'));
+  try {
+    const text = generateRegister(stages);
+    const file = join(dir, 'register.tube');
+    writeFileSync(file, text);
+    const solveCommandMs = spawnMs([launcher, 'solve', file], runs);
+    const inProcess = () => {
+      const t0 = performance.now();
+      solveOperatingPoint(loadDesign('register.tube', text).design!);
+      return performance.now() - t0;
+    };
+    inProcess();
+    const solveInProcessMs = median(Array.from({ length: runs }, inProcess));
+    return { bareMs, versionMs, showMs, stages, solveCommandMs, solveInProcessMs };
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+/** The start-up table of docs/PERFORMANCE.md. */
+export function startupTable(r: StartupBench): string {
+  const x = (ms: number) => `${(ms / r.bareMs).toFixed(1)}×`;
+  const solveGoal = r.solveCommandMs / (r.solveInProcessMs + r.versionMs);
+  return [
+    `Measured ${new Date().toISOString().slice(0, 10)} on ${process.platform}/${process.arch}, Node ${process.version}, by \`npm run bench\`, or alone by \`node dist/bench/startupBench.js\` (median of 7 runs each).`,
+    '',
+    '| what | time | against a bare `node -e 0` |',
+    '|---|---:|---:|',
+    `| \`node -e 0\` | ${r.bareMs.toFixed(0)} ms | 1.0× |`,
+    `| \`tubemargin --version\` | ${r.versionMs.toFixed(0)} ms | **${x(r.versionMs)}** |`,
+    `| \`tubemargin show nets/nor-adder.tube\` | ${r.showMs.toFixed(0)} ms | **${x(r.showMs)}** |`,
+    `| \`tubemargin solve\` of the generated ${r.stages.toLocaleString('en')}-stage register | ${r.solveCommandMs.toFixed(0)} ms | |`,
+    `| the same load + solve in a running process | ${r.solveInProcessMs.toFixed(0)} ms | |`,
+    '',
+    `- Goals (issue #16): \`--version\` and \`show\` within 3× a bare start; \`solve\` as a command within 2× the in-process solve plus start-up: ${solveGoal.toFixed(2)}×.`,
+  ].join('\n');
+}
+
+if (process.argv[1] === fileURLToPath(import.meta.url)) process.stdout.write(startupTable(benchStartup()) + '\n');
