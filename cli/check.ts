@@ -1,5 +1,6 @@
 import { AGEING_SCENARIOS, checkMargins, DISTRIBUTIONS, samplingThresholds, shrinkFailure, type AgeingScenario, type CheckResult, type Design, type Distribution, type MonteCarloResult } from '../lib/index.js';
 import { checkToJson, renderCheck } from '../lib/report/checkReport.js';
+import { withProgress } from './progress.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, readRequirement, report, usageError, type GlobalOptions } from './load.js';
 import { defaultWorkers, MAX_SAMPLES, runSamples } from './sampling.js';
@@ -82,7 +83,7 @@ export function readCheckOptions(options: CheckCliOptions, io: CliIo): CheckSett
 /** The check of a loaded design and, when asked, its Monte Carlo run; a number is the exit code of a design that cannot be solved (reported). */
 export async function checkWithSamples(loaded: { design: Design; sources: Map<string, string> }, settings: CheckSettings, io: CliIo): Promise<{ result: CheckResult; sampled: MonteCarloResult | undefined } | number> {
   const { margin, scenario, samples, seed, distribution, workers } = settings;
-  const result = checkMargins(loaded.design, { requiredMargin: margin, scenario, ratings: true });
+  const result = await withProgress(io, 'check', (onProgress) => checkMargins(loaded.design, { requiredMargin: margin, scenario, ratings: true, onProgress }));
   if (!('verdict' in result)) {
     report(result.diagnostics, loaded.sources, io);
     return EXIT.badInput;

@@ -105,8 +105,8 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
     .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
     .option('--json', 'print the map as tubemargin.sweep/1 JSON')
-    .action((file: string, opts: SweepCliOptions) => {
-      code = runSweep(file, { ...program.opts(), ...opts }, io);
+    .action(async (file: string, opts: SweepCliOptions) => {
+      code = await runSweep(file, { ...program.opts(), ...opts }, io);
     });
 
   withCheckOptions(program.command('report').summary(REPORT_SUMMARY).description(REPORT_SUMMARY + '\n' + REPORT_HELP).argument('<file>', 'design file (.tube text or .json)'))
@@ -139,8 +139,8 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--series <E>', 'preferred-value series: E6, E12, E24, E96 (default E12)')
     .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
     .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
-    .action((file: string, opts: TuneCliOptions) => {
-      code = runTune(file, { ...program.opts(), ...opts }, io);
+    .action(async (file: string, opts: TuneCliOptions) => {
+      code = await runTune(file, { ...program.opts(), ...opts }, io);
     });
 
   program

@@ -17,6 +17,7 @@ import { formatSI, table, wrap } from '../lib/report/format.js';
 import { renderPulseReport } from '../lib/report/htmlReport.js';
 import { safetyCautions } from '../lib/report/safety.js';
 import { figure } from '../lib/report/figure.js';
+import { withProgress } from './progress.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 import { refuseToOverwrite, writeReport } from './report.js';
@@ -129,7 +130,7 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
 
   let limit: ClockLimitResult | undefined;
   if (options.fastest) {
-    const found = clockLimit(design, { ...settings, nets: r.nets, onRun: io.stderrIsTTY ? (p, c, ok) => io.stderr(`  ${formatSI(p, 's')} ${c}: ${ok ? 'counts' : 'fails'}\n`) : undefined });
+    const found = await withProgress(io, 'fastest clock', (onProgress) => clockLimit(design, { ...settings, nets: r.nets, onProgress }));
     if (!('runs' in found)) {
       report(found.diagnostics, loaded.sources, io);
       return EXIT.failed;

@@ -1,6 +1,7 @@
 import { solveOperatingPoint, sweepRails } from '../lib/index.js';
 import { REPORT_MARK, renderHtmlReport } from '../lib/report/htmlReport.js';
 import { checkWithSamples, readCheckOptions, type CheckCliOptions } from './check.js';
+import { withProgress } from './progress.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, report, usageError } from './load.js';
 import { readSweepOptions } from './sweep.js';
@@ -64,7 +65,7 @@ export async function runReport(file: string, options: ReportCliOptions, io: Cli
   if (typeof checked === 'number') return checked;
   let sweep;
   if (swept.axes.length > 0) {
-    const r = sweepRails(loaded.design, { axes: swept.axes, heater: swept.heater, requiredMargin: settings.margin, scenario: settings.scenario });
+    const r = await withProgress(io, 'supply map', (onProgress) => sweepRails(loaded.design, { axes: swept.axes, heater: swept.heater, requiredMargin: settings.margin, scenario: settings.scenario, onProgress }));
     if (!('grid' in r)) {
       report(r.diagnostics, loaded.sources, io);
       return EXIT.badInput;

@@ -4,6 +4,7 @@ import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import { designToJson, Sampler, summarizeSamples, type Design, type MonteCarloResult, type SampleOutcome, type SamplingSetup } from '../lib/index.js';
 import type { CliIo } from './io.js';
+import { progressDisplay } from './progress.js';
 
 /** The compiled worker script beside this module. */
 const WORKER = new URL('./sampleWorker.js', import.meta.url);
@@ -15,15 +16,14 @@ export const MAX_SAMPLES = 1_000_000;
  * Runs `samples` Monte Carlo samples of a design on `workers` threads (one: in this
  * thread) and sums them up. The samples are split into contiguous ranges, one per worker,
  * and put back in index order, so the result for a seed is the same whatever the number
- * of workers. A progress bar goes to stderr when it is a terminal.
- *
- * A well-kept library (cli-progress) draws the bar: it handles terminal width, redraw
- * rate and the end of the line, which are fiddly to get right by hand and are not our job.
+ * of workers. A run longer than two seconds shows a progress bar on stderr when it is a
+ * terminal (`progressDisplay`).
  */
 export async function runSamples(design: Design, setup: SamplingSetup, samples: number, workers: number, io: CliIo): Promise<MonteCarloResult> {
-  // cli-progress is loaded only where a bar is drawn: every command imports this module.
-  const bar = io.stderrIsTTY ? new (await import('cli-progress')).SingleBar({ stream: process.stderr, format: 'samples [{bar}] {value}/{total} {eta_formatted} left', hideCursor: true }) : undefined;
-  bar?.start(samples, 0);
+  const display = await progressDisplay(io, 'Monte Carlo');
+  let done = 0;
+  const tick = (n: number) => display.progress?.('samples', (done += n), samples);
+  tick(0);
   // Worker threads run the compiled worker; where it is not there (the sources run directly, as
   // in the tests) the samples run in this thread, with the same result.
   const threads = existsSync(fileURLToPath(WORKER)) ? Math.max(1, Math.min(workers, samples)) : 1;
@@ -35,12 +35,11 @@ export async function runSamples(design: Design, setup: SamplingSetup, samples: 
       outcomes = [];
       for (let k = 0; k < samples; k++) {
         outcomes.push(sampler.run(k));
-        if (k % 8 === 7) bar?.increment(8);
+        if (k % 8 === 7) tick(8);
       }
-    } else outcomes = await inThreads(design, setup, samples, threads, parameters.length, (n) => bar?.increment(n));
+    } else outcomes = await inThreads(design, setup, samples, threads, parameters.length, tick);
   } finally {
-    bar?.update(samples);
-    bar?.stop();
+    display.stop();
   }
   return summarizeSamples(setup, parameters, outcomes);
 }

@@ -1,5 +1,6 @@
 import { sweepRails, type SweepAxis } from '../lib/index.js';
 import { renderSweep, sweepToJson } from '../lib/report/sweepReport.js';
+import { withProgress } from './progress.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, readRequirement, report, usageError, type GlobalOptions } from './load.js';
 
@@ -38,7 +39,7 @@ export function readSweepOptions(options: Pick<SweepCliOptions, 'rail' | 'heater
   return { axes, heater };
 }
 
-export function runSweep(file: string, options: SweepCliOptions, io: CliIo): number {
+export async function runSweep(file: string, options: SweepCliOptions, io: CliIo): Promise<number> {
   const read = readSweepOptions(options, io);
   if (typeof read === 'number') return read;
   const { axes, heater } = read;
@@ -48,7 +49,7 @@ export function runSweep(file: string, options: SweepCliOptions, io: CliIo): num
   const { margin, scenario } = requirement;
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
-  const result = sweepRails(loaded.design, { axes, heater, requiredMargin: margin, scenario });
+  const result = await withProgress(io, 'sweep', (onProgress) => sweepRails(loaded.design, { axes, heater, requiredMargin: margin, scenario, onProgress }));
   if (!('grid' in result)) {
     report(result.diagnostics, loaded.sources, io);
     return EXIT.badInput;

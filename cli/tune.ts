@@ -1,5 +1,6 @@
 import { E_SERIES, tuneStage, type SeriesName, type TuneCandidate } from '../lib/index.js';
 import { formatSI, table, wrap } from '../lib/report/format.js';
+import { withProgress } from './progress.js';
 import type { CliIo } from './io.js';
 import { EXIT, loadForCommand, readRequirement, report, usageError, type GlobalOptions } from './load.js';
 
@@ -21,8 +22,9 @@ export interface TuneCliOptions extends GlobalOptions {
   age?: string;
 }
 
-export function runTune(file: string, options: TuneCliOptions, io: CliIo): number {
-  if (!options.stage) return usageError(io, 'name the stage to tune: --stage NET');
+export async function runTune(file: string, options: TuneCliOptions, io: CliIo): Promise<number> {
+  const stage = options.stage;
+  if (!stage) return usageError(io, 'name the stage to tune: --stage NET');
   const series = (options.series ?? 'E12') as SeriesName;
   if (!(series in E_SERIES)) return usageError(io, `--series takes one of ${Object.keys(E_SERIES).join(', ')}, not '${options.series}'`);
   const requirement = readRequirement(options, io);
@@ -30,7 +32,7 @@ export function runTune(file: string, options: TuneCliOptions, io: CliIo): numbe
   const { margin, scenario } = requirement;
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
-  const r = tuneStage(loaded.design, { stage: options.stage, series, requiredMargin: margin, scenario });
+  const r = await withProgress(io, 'tune', (onProgress) => tuneStage(loaded.design, { stage, series, requiredMargin: margin, scenario, onProgress }));
   if (!('best' in r)) {
     report(r.diagnostics, loaded.sources, io);
     return EXIT.badInput;

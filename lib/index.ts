@@ -83,3 +83,4 @@ export { simulate, interelectrodeOf, type TransientOptions, type TransientResult
 export { causeNets, stageTimings, statesAt, type StageTiming } from './analysis/timing.js';
 export { pulseDesign, type PulseOptions, type PulseOutcome, type PulseRun } from './analysis/pulseRun.js';
 export { clockLimit, atCorner, stageTime, TIMING_CORNERS, type ClockFailure, type ClockLimitOptions, type ClockLimitResult, type TimingCorner } from './analysis/clockLimit.js';
+export type { Progress } from './progress.js';

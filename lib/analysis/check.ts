@@ -17,6 +17,7 @@ import type { TransferCurve } from './staticNoiseMargin.js';
 import { highest, lowest } from '../lists.js';
 import { tightenLevels, type TightenSummary } from './wholeLevels.js';
 import { railBoxes } from './railBoxes.js';
+import type { Progress } from '../progress.js';
 
 export interface CheckOptions {
   /** The noise margin every net must keep (volts); the design's own setting when absent. */
@@ -44,6 +45,8 @@ export interface CheckOptions {
   narrow?: boolean;
   /** The work refinement may spend (`CORNER_WORK` when absent): a harness that runs thousands of checks sets less. */
   cornerWork?: number;
+  /** Told as the levels' rounds and the search of corners go on. */
+  onProgress?: Progress;
 }
 
 /** One parameter's part in making a level weak. */
@@ -186,15 +189,17 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
     return { diagnostics: [error('nothing-to-check', 'the design has no logic nets: no tube section drives a net, and no grid reads one, so there is nothing to check', undefined, ["'solve' still gives its operating point"])] };
   }
   const chain = new LevelChain(design, graph, scenario);
-  chain.run();
+  chain.run(options.onProgress);
   // A design small enough to solve whole has its levels narrowed to the whole design's, rails and parts correlated.
   const refine = options.refine ?? true;
+  options.onProgress?.('levels of the whole design', 0, 1);
   const whole = options.narrow ?? refine ? tightenLevels(design, graph, scenario, chain) : undefined;
 
   // Thresholds of every receiving input, and the design-wide extremes for nets with none.
   const thresholds = new Map<string, ReceiverMargin[]>();
   const kinds = new Map<string, StageKind>();
-  for (const n of graph.nets) {
+  for (const [i, n] of graph.nets.entries()) {
+    options.onProgress?.('receivers', i, graph.nets.length);
     thresholds.set(
       n.name,
       n.receivers.flatMap((r) => {
@@ -240,7 +245,11 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   for (const n of nets) {
     if (n.weakest && (n.status === 'fail' || weakestClasses.has(n.classId))) n.weakest.causes = causesOf(chain, chain.nets.get(n.name)!, n.weakest.what);
   }
-  const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => latchCheck(chain, l.nets as [string, string]));
+  const loops = graph.loops.filter((l) => l.kind === 'latch');
+  const latches = loops.map((l, i) => {
+    options.onProgress?.('latches', i, loops.length);
+    return latchCheck(chain, l.nets as [string, string]);
+  });
   // A bound that fails on its levels is bounded again over halves of the rails' ranges, before any whole-design solve.
   if (refine) {
     const byName = new Map(graph.nets.map((n) => [n.name, n]));
@@ -250,11 +259,11 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
         return t ? [{ section: r.section, stage: t.stage, vilMin: t.vilMin, vihMax: t.vihMax }] : [];
       });
       return judgeNet(box, name, byName.get(name)!.fanout, receivers, flatInputs, inLoop, false, required, load, designWide, logicThreshold(design, name));
-    });
+    }, options.onProgress);
     nets.sort(weakestFirst);
   }
   // What the bounds cannot decide goes to the corners of the whole design.
-  if (refine) refineVerdicts({ design, graph, scenario, chain, required, flatInputs, cornerWork: options.cornerWork, seeds: whole?.seeds }, nets, latches);
+  if (refine) refineVerdicts({ design, graph, scenario, chain, required, flatInputs, cornerWork: options.cornerWork, seeds: whole?.seeds, progress: options.onProgress }, nets, latches);
   let ratings: Ratings | undefined;
   let modelRange: string[] = [];
   if (options.ratings) {
@@ -421,13 +430,14 @@ function judgeNet(
  * passes on every box passes, with its levels and margins the worst over the boxes. The
  * chain runs once per box, and stops early once no such net is left passing.
  */
-function passOnRailBoxes(design: Design, graph: StageGraph, scenario: AgeingScenario, nets: NetCheck[], required: number, judge: (box: LevelChain, name: string) => NetCheck): void {
+function passOnRailBoxes(design: Design, graph: StageGraph, scenario: AgeingScenario, nets: NetCheck[], required: number, judge: (box: LevelChain, name: string) => NetCheck, progress?: Progress): void {
   const open = new Map(nets.filter((n) => n.status === 'fail' && n.refinable && n.refinable.length > 0).map((n) => [n.name, [] as NetCheck[]]));
   if (open.size === 0) return;
   const boxes = railBoxes(design);
   if (boxes.length === 0) return;
   const rails = design.rails.filter((r, i) => boxes[0]!.rails[i]!.volts !== r.volts).map((r) => r.name);
-  for (const box of boxes) {
+  for (const [k, box] of boxes.entries()) {
+    progress?.('rail boxes', k, boxes.length);
     const chain = new LevelChain(box, graph, scenario);
     chain.run();
     if (!chain.settled) return;

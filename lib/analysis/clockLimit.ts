@@ -4,6 +4,7 @@ import { error, type Diagnostic } from '../source/diagnostic.js';
 import { pulseDesign, type PulseOptions, type PulseRun } from './pulseRun.js';
 import { causeNets, type StageTiming } from './timing.js';
 import type { Waveform } from './waveform.js';
+import type { Progress } from '../progress.js';
 
 /** A tolerance corner for timing: how the design is moved off nominal. */
 export interface TimingCorner {
@@ -44,8 +45,12 @@ export function atCorner(design: Design, corner: TimingCorner['name']): { design
 export interface ClockLimitOptions extends PulseOptions {
   /** Stop when the passing and failing periods are within this fraction of each other. */
   resolution?: number;
-  /** Called after every simulation, for a progress display. */
-  onRun?: (period: number, corner: string, passed: boolean) => void;
+  /**
+   * Told after every trial period (each simulated in every corner). The total is an
+   * estimate until the answer is bracketed: the trials so far, one more halving and the
+   * bisection of a factor of 2; after, the trials so far and the bisection left.
+   */
+  onProgress?: Progress;
 }
 
 /** Where a run at some clock period went wrong. */
@@ -107,10 +112,7 @@ export function clockLimit(design: Design, options: ClockLimitOptions): ClockLim
       const again = period !== given || corner.name !== 'nominal';
       const r = again ? pulseDesign(at.design, { ...options, inputs: scaled(period), stop: (options.stop * period) / given, variation: at.variation, parasiticScale: at.parasiticScale, nets: reference.nets }) : reference;
       if (again) runs++;
-      const fail = (f: Omit<ClockFailure, 'period' | 'corner'>) => {
-        options.onRun?.(period, corner.name, false);
-        return { failure: { period, corner: corner.name, ...f }, runs: done };
-      };
+      const fail = (f: Omit<ClockFailure, 'period' | 'corner'>) => ({ failure: { period, corner: corner.name, ...f }, runs: done });
       if (!('run' in r) || !r.run.ok) return fail({ pulse: 0, wrong: [], why: ('run' in r ? r.run.diagnostics : r.diagnostics).find((d) => d.severity === 'error')?.message ?? 'the run did not finish' });
       done.set(corner.name, r);
       // A delay given in seconds does not follow the period, so a trial may fit a pulse more
@@ -121,27 +123,32 @@ export function clockLimit(design: Design, options: ClockLimitOptions): ClockLim
         const wrong = judged.flatMap((net, i) => (got[i] === expected[k]![i] ? [] : [{ net, expected: expected[k]![i]! }]));
         if (wrong.length > 0) return fail({ pulse: k + 1, wrong });
       }
-      options.onRun?.(period, corner.name, true);
     }
     return { runs: done };
   };
+  const resolution = options.resolution ?? 0.02;
+  const halvings = (ratio: number) => Math.max(0, Math.ceil(Math.log2(Math.log(ratio) / Math.log(1 + resolution))));
+  let trials = 0;
+  const told = (bracketed: boolean) => options.onProgress?.('trial periods', ++trials, trials + (bracketed ? halvings(passing.period / failing!.period) : 1 + halvings(2)));
   const first = trial(given);
   if (first.failure) return { givenPeriod: given, passing: undefined, failing: first.failure, slowest: [], limiting: undefined, runs };
   let passing = { period: given, runs: first.runs };
   let failing: ClockFailure | undefined;
+  told(false);
   for (let k = 0; k < 12 && !failing; k++) {
     const t = trial(passing.period / 2);
     if (t.failure) failing = t.failure;
     else passing = { period: passing.period / 2, runs: t.runs };
+    told(failing !== undefined);
   }
   // Bisection on the logarithm of the period: 30 halvings resolve a factor of 2¹² to 1e-5,
   // so the cap only stops a resolution of 0 (or below rounding) from running for ever.
-  const resolution = options.resolution ?? 0.02;
   for (let k = 0; k < 30 && failing && passing.period / failing.period > 1 + resolution; k++) {
     const mid = Math.sqrt(passing.period * failing.period);
     const t = trial(mid);
     if (t.failure) failing = t.failure;
     else passing = { period: mid, runs: t.runs };
+    told(true);
   }
   const limiting = passing.runs.get(failing?.corner ?? 'nominal');
   const byTime = (limiting?.stages ?? []).filter((s) => s.delay).sort((a, b) => stageTime(b) - stageTime(a));

@@ -11,6 +11,7 @@ import type { LatchResult } from './latchCheck.js';
 import type { TransferCurve } from './staticNoiseMargin.js';
 import { sweepTransfer } from './transferCurve.js';
 import { unityGainPoints } from './unityGain.js';
+import type { Progress } from '../progress.js';
 
 /**
  * Corners of the whole design: where the chained bounds cannot decide a question, the
@@ -383,12 +384,19 @@ const netCount = new WeakMap<Design, number>();
 const searchWork = new WeakMap<Design, number>();
 
 /** What is left of `CORNER_WORK` in one check. */
+/** The phase a budget's spending is told as: the bar's total is the most the search may do, which it often does not need. */
+const BUDGET_PHASE = 'corners, % of the most the budget allows';
+
 export class CornerBudget {
   /** The work the check started with. */
   readonly total: number;
 
-  constructor(public left = CORNER_WORK) {
+  constructor(
+    public left = CORNER_WORK,
+    private readonly progress?: Progress,
+  ) {
     this.total = left;
+    progress?.(BUDGET_PHASE, 0, 100);
   }
 
   /** Whether `corners` corners of `w` can be planned for; a search is then capped at what is left. */
@@ -398,6 +406,7 @@ export class CornerBudget {
 
   spend(work: number): void {
     this.left -= work;
+    this.progress?.(BUDGET_PHASE, this.total > 0 ? Math.min(100, Math.round((100 * (this.total - this.left)) / this.total)) : 100, 100);
   }
 
   /** Whether `solves` solves of the whole of `design` could fit, judged before compiling it (its nets stand for its unknowns). */

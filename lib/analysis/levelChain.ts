@@ -8,6 +8,7 @@ import { buildRegion, indexDesign, type DesignIndex, type Region } from './regio
 import { localBands, searchAllCorners, searchVertex, type Band } from './vertex.js';
 import { highest, lowest } from '../lists.js';
 import { coarsestPartition } from './partition.js';
+import type { Progress } from '../progress.js';
 
 /** How a net's level is set: by inverting stages (plates: NOR), by followers (cathodes: OR), or from outside. */
 export type NetPolarity = 'inverting' | 'follower' | 'mixed' | 'input';
@@ -201,7 +202,7 @@ export class LevelChain {
   }
 
   /** Runs the chain to its fixed point. */
-  run(): void {
+  run(progress?: Progress): void {
     const representatives = this.shareLevels();
     this.possibleStates(representatives);
     for (const name of representatives) {
@@ -221,7 +222,9 @@ export class LevelChain {
     let stale = new Set(representatives);
     for (this.rounds = 1; this.rounds <= MAX_ROUNDS; this.rounds++) {
       const next = new Set<string>();
-      for (const name of representatives) {
+      const phase = `levels, round ${this.rounds}`;
+      for (const [i, name] of representatives.entries()) {
+        progress?.(phase, i, representatives.length);
         if (!stale.has(name)) continue;
         const net = this.nets.get(name)!;
         if ((net.polarity === 'inverting' || net.polarity === 'follower') && this.updateStage(net)) {

@@ -12,6 +12,7 @@ import { cutoffGrid } from './gridMargins.js';
 import { P } from '../models/tubeEquations.js';
 import { firstOfEach } from '../lists.js';
 import { designParameters } from './parameters.js';
+import type { Progress } from '../progress.js';
 
 /**
  * Bracketed verdicts for nets: a net whose bound misses the requirement is put to the
@@ -684,6 +685,8 @@ export interface RefineContext {
   cornerWork?: number | undefined;
   /** Levels already searched on the whole design (`tightenLevels`). */
   seeds?: ReadonlyMap<string, { high?: Seed; low?: Seed }> | undefined;
+  /** Told as the budget is spent. */
+  progress?: Progress | undefined;
 }
 
 /**
@@ -747,7 +750,7 @@ const LATCH_IMAGES = 32;
  */
 export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: LatchResult[]): void {
   const { design, graph, scenario, chain, required, flatInputs } = ctx;
-  const budget = new CornerBudget(ctx.cornerWork);
+  const budget = new CornerBudget(ctx.cornerWork, ctx.progress);
   let whole: WholeDesign | undefined;
   for (const l of latches) {
     if (l.basis !== 'undecided') continue;

@@ -3,6 +3,7 @@ import { buildStageGraph } from '../graph/stageGraph.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import { AGEING_SCENARIOS, heaterEmission, type AgeingScenario } from './ageing.js';
 import { checkMargins } from './check.js';
+import type { Progress } from '../progress.js';
 
 /** One swept rail: its nominal volts replaced by each value from `from` to `to` in `step`s. */
 export interface SweepAxis {
@@ -18,6 +19,8 @@ export interface RailSweepOptions {
   heater?: number;
   requiredMargin?: number;
   scenario?: AgeingScenario;
+  /** Told after every point of the grid. */
+  onProgress?: Progress;
 }
 
 /** One point of the map. */
@@ -87,12 +90,15 @@ export function sweepRails(design: Design, options: RailSweepOptions): RailSweep
   const scenario: AgeingScenario = heater === 1 ? base : { ...base, name: `${base.name}, heaters at ${Math.round(heater * 100)} %`, emissionScale: heaterEmission(heater) };
   const [first, second] = valuesOf as [number[], number[] | undefined];
   const rows = second ?? [NaN];
+  let done = 0;
+  options.onProgress?.('points', 0, points);
   const grid = rows.map((v2) =>
     first.map((v1): SweepPoint => {
       const volts = new Map([[options.axes[0]!.rail, v1]]);
       if (second) volts.set(options.axes[1]!.rail, v2);
       const moved: Design = { ...design, rails: design.rails.map((r) => (volts.has(r.name) ? { ...r, volts: volts.get(r.name)! } : r)) };
       const r = checkMargins(moved, { requiredMargin: options.requiredMargin, scenario, headroom: false, graph, refine: false });
+      options.onProgress?.('points', ++done, points);
       if (!('verdict' in r)) return { pass: false, failures: 1, weakest: undefined };
       const failures = r.nets.filter((n) => n.status === 'fail').length + r.latches.filter((l) => !l.holds || l.inputs.some((i) => !i.switches && i.note === undefined)).length;
       return { pass: r.verdict === 'pass', failures, weakest: r.nets[0]?.name };

@@ -5,6 +5,7 @@ import type { AgeingScenario } from './ageing.js';
 import { checkMargins, type CheckResult } from './check.js';
 import { DERATING } from './ratings.js';
 import { lowest } from '../lists.js';
+import type { Progress } from '../progress.js';
 
 export interface TuneOptions {
   /** The stage (its output net) whose resistors are chosen. */
@@ -14,6 +15,8 @@ export interface TuneOptions {
   scenario?: AgeingScenario;
   /** Each value is sought from its present value divided by this to multiplied by it (3 when absent). */
   span?: number;
+  /** Told after every candidate of each of the two rounds. */
+  onProgress?: Progress;
 }
 
 /** One choice of the stage's resistors and what `check` says of the design with it. */
@@ -81,11 +84,18 @@ export function tuneStage(design: Design, options: TuneOptions): TuneResult | { 
   let current = [load.ohms, series[0]!.ohms, pulldowns[0]!.ohms];
   let bestSoFar = present;
   for (let round = 0; round < 2; round++) {
+    // Each value moves only at its own turn, so the round's candidates are known at its start.
+    const values = current.map((x) => preferredValues(options.series, x / span, x * span));
+    const total = values.reduce((n, vs) => n + vs.length, 0);
+    const phase = `round ${round + 1} of 2`;
+    let done = 0;
+    options.onProgress?.(phase, 0, total);
     for (let k = 0; k < 3; k++) {
-      for (const v of preferredValues(options.series, current[k]! / span, current[k]! * span)) {
+      for (const v of values[k]!) {
         const trial = [...current];
         trial[k] = v;
         const c = evaluate(trial[0]!, trial[1]!, trial[2]!);
+        options.onProgress?.(phase, ++done, total);
         if (better(c, bestSoFar)) {
           bestSoFar = c;
           current = trial;

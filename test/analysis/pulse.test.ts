@@ -164,8 +164,13 @@ describe('the cap counter, a ripple binary', () => {
 describe('the fastest clock', () => {
   it('the crate tally counts at the period found in every corner, fails just faster, and the stage named feeds the net that went wrong', { timeout: 120_000 }, () => {
     const d = crateTally();
-    const r = clockLimit(d, { inputs: twoPhase('100us'), stop: 200e-6, start: afterReset(d), resolution: 0.05 });
+    const told: [number, number][] = [];
+    const r = clockLimit(d, { inputs: twoPhase('100us'), stop: 200e-6, start: afterReset(d), resolution: 0.05, onProgress: (_, done, total) => void told.push([done, total]) });
     if (!('runs' in r)) throw new Error(r.diagnostics[0]?.message);
+    // Progress: one call a trial period, the estimate never below what is done, and exact at the end.
+    expect(told.map(([done]) => done)).toEqual(told.map((_, i) => i + 1));
+    expect(told.every(([done, total]) => total >= done)).toBe(true);
+    expect(told.at(-1)![1]).toBe(told.length);
     expect(r.passing).toBeDefined();
     expect(r.failing).toBeDefined();
     expect(r.passing! / r.failing!.period).toBeLessThan(1.05);
