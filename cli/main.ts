@@ -73,14 +73,15 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
       code = runShow(file, { ...program.opts(), ...opts }, io);
     });
 
-  const collect = (value: string, previous: string[]) => [...previous, value];
+  // No default for a repeatable option: help would print it as '(default: [])'; the commands read an absent list as empty.
+  const collect = (value: string, previous: string[] | undefined) => [...(previous ?? []), value];
   program
     .command('solve')
     .summary(SOLVE_SUMMARY)
     .description(SOLVE_SUMMARY + '\n' + SOLVE_HELP)
     .argument('<file>', 'design file (.tube text or .json)')
-    .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect, [])
-    .option('--close <SWITCH>', 'close a switch or press a button for this solve; repeatable', collect, [])
+    .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect)
+    .option('--close <SWITCH>', 'close a switch or press a button for this solve; repeatable', collect)
     .option('--json', 'print the operating point as tubemargin.solve/1 JSON')
     .option('--at <FILE>', 're-solve a witness of check: a witness object, or a check --json report')
     .option('--at-net <NAME>', 'with --at on a report: the net (or a net of the latch) whose witness to take')
@@ -100,7 +101,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .summary(SWEEP_SUMMARY)
     .description(SWEEP_SUMMARY + '\n' + SWEEP_HELP)
     .argument('<file>', 'design file (.tube text or .json)')
-    .option('--rail <NAME=FROM:TO:STEP>', 'a rail to sweep, in volts; give one or two', collect, [])
+    .option('--rail <NAME=FROM:TO:STEP>', 'a rail to sweep, in volts; give one or two', collect)
     .option('--heater <F>', 'heater voltage as a fraction of nominal (default 1)')
     .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
     .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
@@ -111,7 +112,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
 
   withCheckOptions(program.command('report').summary(REPORT_SUMMARY).description(REPORT_SUMMARY + '\n' + REPORT_HELP).argument('<file>', 'design file (.tube text or .json)'))
     .option('-o, --output <FILE>', 'where to write the HTML report')
-    .option('--rail <NAME=FROM:TO:STEP>', 'add a supply map over this rail; give one or two', collect, [])
+    .option('--rail <NAME=FROM:TO:STEP>', 'add a supply map over this rail; give one or two', collect)
     .option('--heater <F>', 'heater voltage for the supply map, as a fraction of nominal')
     .action(async (file: string, opts: ReportCliOptions) => {
       code = await runReport(file, { ...program.opts(), ...opts }, io);
@@ -150,7 +151,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .argument('<file>', 'design file (.tube text or .json)')
     .option('--sequence <FILE|TEXT>', 'the input sequence: a file, or the actions themselves')
     .option('--nets <A,B,…>', 'the nets to watch (default: every logic net)')
-    .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect, [])
+    .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect)
     .option('--json', 'print the steps as tubemargin.step/1 JSON')
     .action((file: string, opts: StepCliOptions) => {
       code = runStep(file, { ...program.opts(), ...opts }, io);
@@ -161,10 +162,10 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .summary(PULSE_SUMMARY)
     .description(PULSE_SUMMARY + '\n' + PULSE_HELP)
     .argument('<file>', 'design file (.tube text or .json)')
-    .option('--input <DRIVE=WAVEFORM>', "a drive's waveform; repeat for more inputs", collect, [])
+    .option('--input <DRIVE=WAVEFORM>', "a drive's waveform; repeat for more inputs", collect)
     .option('--for <TIME>', 'how long to simulate: 300us, 2ms')
     .option('--nets <A,B,…>', 'the nets to watch (default: every logic net)')
-    .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect, [])
+    .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect)
     .option('--after <FILE|TEXT>', 'step through this sequence (a file, or the actions) first and start from where it leaves the design')
     .option('--stray <FARADS>', "stray capacitance from every net to ground (default: the design's, 10pF unless set)")
     .option('--expect <NET=1,…>', 'states the watched nets must have at the end (exit 1 when not)')
@@ -190,7 +191,10 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     await program.parseAsync(argv, { from: 'user' });
   } catch (e) {
     if (e instanceof CommanderError) {
-      if (e.code === 'commander.helpDisplayed' || e.code === 'commander.version' || e.code === 'commander.help') return EXIT.ok;
+      // Help asked for (--help, `help`) is a success; help shown because no command was given
+      // is a usage error like any other (commander then throws with exit code 1).
+      if (e.code === 'commander.helpDisplayed' || e.code === 'commander.version') return EXIT.ok;
+      if (e.code === 'commander.help') return e.exitCode === 0 ? EXIT.ok : EXIT.badInput;
       return EXIT.badInput;
     }
     io.stderr(`internal error: ${(e as Error).stack ?? String(e)}\nplease report this with the design that caused it\n`);

@@ -38,6 +38,24 @@ describe('tubemargin on the command line', () => {
     expect(r.out).toContain('show');
   });
 
+  it('no command is a usage error: help on stderr, exit 2, as for any other (issue #17)', async () => {
+    const r = await run([]);
+    expect(r.code).toBe(2);
+    expect(r.out).toBe('');
+    expect(r.err).toContain('Usage: tubemargin');
+    // Asked for, help is a success.
+    expect((await run(['help'])).code).toBe(0);
+  });
+
+  it("no help page prints a repeatable option's empty default (issue #17)", async () => {
+    for (const command of ['solve', 'sweep', 'report', 'step', 'pulse']) {
+      const r = await run([command, '--help']);
+      expect(r.code, command).toBe(0);
+      expect(r.out, command).not.toContain('(default: [])');
+      expect(r.out, command).toMatch(/repeat|one or two/);
+    }
+  });
+
   for (const file of demoDesigns()) {
     it(`shows ${file}: rails, stages, nets and loops within 80 columns`, async () => {
       const r = await run(['show', file]);
