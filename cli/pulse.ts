@@ -80,8 +80,13 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
   const expected = readStates((options.expect ?? '').split(/[\s,]+/).filter(Boolean), '--expect', io);
   if (typeof expected === 'number') return expected;
   if (options.fastest && ![...inputs.values()].some((w) => w.period !== undefined)) return usageError(io, '--fastest needs a clock(...) input whose period it can shorten');
+  // Output paths are checked before the simulation, which can take many seconds.
   if (options.output !== undefined) {
     const refused = refuseToOverwrite(options.output, io);
+    if (refused !== undefined) return refused;
+  }
+  if (options.csv !== undefined) {
+    const refused = refuseToOverwrite(options.csv, io, CSV_OWNED);
     if (refused !== undefined) return refused;
   }
   const loaded = loadForCommand(file, io, options);
@@ -164,10 +169,11 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
   return ok ? EXIT.ok : EXIT.failed;
 }
 
-/** Writes time and the voltage of each of `nets` as CSV; refuses to overwrite a file that is not such a CSV. */
+/** How a waveform CSV of ours is known: a file that does not start so is never overwritten. */
+const CSV_OWNED = { mark: `${CSV_FIRST_COLUMN},`, what: 'a tubemargin waveform CSV' };
+
+/** Writes time and the voltage of each of `nets` as CSV (its path was checked by `refuseToOverwrite` before the run). */
 function writeCsv(path: string, r: PulseRun, nets: string[], io: CliIo): number {
-  const refused = refuseToOverwrite(path, io, { mark: `${CSV_FIRST_COLUMN},`, what: 'a tubemargin waveform CSV' });
-  if (refused !== undefined) return refused;
   const traces = nets.map((n) => r.run.volts(n)!);
   const rows = r.run.times.map((t, i) => [t.toPrecision(9), ...traces.map((v) => v[i]!.toFixed(4))]);
   return writeReport(path, stringify([[CSV_FIRST_COLUMN, ...nets], ...rows]), io) ?? EXIT.ok;

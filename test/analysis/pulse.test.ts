@@ -218,6 +218,11 @@ describe('tubemargin pulse', () => {
     const refused = await run(['pulse', 'b.tube', '--for', '50us', '--input', clock, '--csv', 'mine.csv'], files);
     expect(refused.code).toBe(2);
     expect(refused.err).toMatch(/not a tubemargin waveform CSV/);
+    // Refused before the design is even read, so before any simulation (issue #17): a design with an error is not reported.
+    const early = await run(['pulse', 'broken.tube', '--for', '50us', '--input', clock, '--csv', 'mine.csv'], { ...files, 'broken.tube': 'stage q { nonsense }\n' });
+    expect(early.code).toBe(2);
+    expect(early.err).toMatch(/not a tubemargin waveform CSV/);
+    expect(early.err).not.toMatch(/broken.tube/);
     const json = await run(['pulse', 'b.tube', '--for', '150us', '--input', clock, '--json', '--nets', 'a,b'], files);
     const doc = JSON.parse(json.out);
     expect(doc.schema).toBe('tubemargin.pulse/1');
