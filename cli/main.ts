@@ -12,27 +12,56 @@ import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
 import { SOLVE_HELP, SOLVE_SUMMARY, runSolve, type SolveCliOptions } from './solve.js';
 import { TUBES_SUMMARY, runTubes } from './tubes.js';
 
-const EXAMPLES = `
-Examples:
-  tubemargin show nets/crate-tally.tube          the expanded design, nets and loops
-  tubemargin show nets/crate-tally.tube --json   the same as tubemargin.design/1 JSON
-  tubemargin show design.json                    JSON designs are read wherever text is
-  tubemargin solve nets/nor-adder.tube           the DC operating point
-  tubemargin solve nets/irrigation-sequencer.tube --hint bed[1]/on=1 --close STOP
-  tubemargin check nets/nor-adder.tube           worst-case margins: pass or fail
-  tubemargin check nets/crate-tally.tube --age end-of-life --margin 10
-  tubemargin check nets/nor-adder.tube --samples 10000 --seed 7
-  tubemargin sweep nets/nor-adder.tube --rail bp=18:30:1 --rail bias=-16:-6:1
-  tubemargin report nets/crate-tally.tube -o crate.html --samples 2000
-  tubemargin fit readings.csv --kind koren-triode -o mytubes.tube
-  tubemargin tune nets/nor-adder.tube --stage y2 --series E24
-  tubemargin step nets/irrigation-sequencer.tube --sequence "pulse STOP; pulse bed[1]/START; expect bed[1]/on=1"
-  tubemargin pulse nets/crate-tally.tube --after "pulse RESET" --for 300us \
-      --input "LINE_A=clock(150V, 0V, period=100us, width=25%)" \
-      --input "LINE_B=clock(150V, 0V, period=100us, width=25%, delay=50%)" --fastest
-  tubemargin tubes                               the tube library
+/**
+ * Each command's examples: the command line (its continuation lines, if any, after the
+ * first) and what it shows. Every help page prints its own (one to three), the top-level
+ * page the first of each; every line fits 80 columns (a test holds both).
+ */
+const COMMAND_EXAMPLES: Record<string, { line: string[]; what: string }[]> = {
+  show: [
+    { line: ['tubemargin show nets/crate-tally.tube'], what: 'the expanded design: rails, tube types, stages, nets and loops' },
+    { line: ['tubemargin show nets/crate-tally.tube --json > crate.json'], what: 'the same as tubemargin.design/1 JSON, which every command reads' },
+  ],
+  solve: [
+    { line: ['tubemargin solve nets/nor-adder.tube'], what: 'the DC operating point: every node, section and resistor' },
+    { line: ['tubemargin solve nets/crate-tally.tube --hint boff[3]=1'], what: 'starting with one latch of the tally flipped' },
+  ],
+  check: [
+    { line: ['tubemargin check nets/nor-adder.tube'], what: 'worst-case levels and margins: pass, fail with a witness, or undecided' },
+    { line: ['tubemargin check nets/crate-tally.tube --age end-of-life --margin 10'], what: 'with every tube at the end of its life, 10 V of margin required' },
+    { line: ['tubemargin check nets/nor-adder.tube --samples 10000 --seed 7'], what: 'adds a Monte Carlo run: yield and margin distributions' },
+  ],
+  sweep: [{ line: ['tubemargin sweep nets/nor-adder.tube --rail bp=18:30:1 --rail bias=-16:-6:1'], what: 'the supply window: pass or fail over a grid of two rails' }],
+  report: [{ line: ['tubemargin report nets/crate-tally.tube -o crate.html --samples 2000'], what: 'one HTML page with the verdict, nets, plots and yield' }],
+  fit: [{ line: ['tubemargin fit readings.csv --kind koren-triode -o mytubes.tube'], what: 'a tube type fitted to your own bench readings' }],
+  tune: [{ line: ['tubemargin tune nets/nor-adder.tube --stage y2 --series E24'], what: "the E24 resistors that give stage y2's nets the most margin" }],
+  step: [
+    {
+      line: ['tubemargin step nets/irrigation-sequencer.tube', '--sequence "pulse STOP; pulse bed[1]/START; expect bed[1]/on=1"'],
+      what: 'the state after each press, and whether bed 1 ends on',
+    },
+  ],
+  pulse: [
+    {
+      line: ['tubemargin pulse nets/crate-tally.tube --after "pulse RESET" --for 300us', '--input "LINE_A=clock(150V, 0V, period=100us, width=25%)"', '--input "LINE_B=clock(150V, 0V, period=100us, width=25%, delay=50%)"', '--fastest'],
+      what: 'two clock phases in time from reset, then the fastest clock that counts',
+    },
+  ],
+  tubes: [
+    { line: ['tubemargin tubes'], what: 'the tube library: types, kinds, ratings and sources' },
+    { line: ['tubemargin tubes --json'], what: 'the same as JSON' },
+  ],
+};
 
-Exit codes: 0 success, 1 a check failed, 2 bad input (the diagnostics say where).`;
+/** Examples as help text: each command line (continued with a backslash) and, indented below it, what it shows. */
+function examplesText(list: readonly { line: string[]; what: string }[]): string {
+  const one = ({ line, what }: { line: string[]; what: string }) => `  ${line.join(' \\\n      ')}\n      ${what}`;
+  return `\nExamples:\n${list.map(one).join('\n')}`;
+}
+
+const EXAMPLES = `${examplesText(Object.values(COMMAND_EXAMPLES).map((list) => list[0]!))}
+
+Exit codes: 0 success, 1 a check failed, 2 bad input (diagnostics say where).`;
 
 /** The options `check` and `report` share: the requirement, the ageing scenario and the Monte Carlo run. */
 function withCheckOptions(command: Command): Command {
@@ -186,6 +215,8 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .action((opts: { json?: boolean }) => {
       code = runTubes(opts, io);
     });
+
+  for (const command of program.commands) command.addHelpText('after', examplesText(COMMAND_EXAMPLES[command.name()] ?? []));
 
   try {
     await program.parseAsync(argv, { from: 'user' });

@@ -47,6 +47,29 @@ describe('tubemargin on the command line', () => {
     expect((await run(['help'])).code).toBe(0);
   });
 
+  it('every help page fits 80 columns and shows 1–3 examples of its own command, with options it has (issue #17)', async () => {
+    const top = await run(['--help']);
+    const listed = top.out.slice(top.out.indexOf('Commands:'), top.out.indexOf('Examples:'));
+    const commands = [...listed.matchAll(/^ {2}([a-z]+)/gm)].map((m) => m[1]!).filter((c) => c !== 'help');
+    expect(commands).toEqual(['show', 'solve', 'check', 'sweep', 'report', 'fit', 'tune', 'step', 'pulse', 'tubes']);
+    for (const page of [top, ...(await Promise.all(commands.map((c) => run([c, '--help']))))]) {
+      for (const line of page.out.split('\n')) expect(line.length, line).toBeLessThanOrEqual(80);
+    }
+    for (const command of commands) {
+      const page = (await run([command, '--help'])).out;
+      const examples = page.slice(page.indexOf('Examples:'));
+      expect(page, command).toContain('Examples:');
+      // An example is a line starting the command; its continuation lines belong to it.
+      const lines = examples.split(/\n(?= {2}tubemargin )/).slice(1);
+      expect(lines.length, command).toBeGreaterThanOrEqual(1);
+      expect(lines.length, command).toBeLessThanOrEqual(3);
+      for (const example of lines) {
+        expect(example, command).toMatch(new RegExp(`^ {2}tubemargin ${command}\\b`));
+        for (const flag of example.match(/(?<= )--?[a-z][a-z-]*/g) ?? []) expect(page, `${command}: ${flag}`).toMatch(new RegExp(`^ {2}(-\\w, )?${flag}\\b`, 'm'));
+      }
+    }
+  });
+
   it("no help page prints a repeatable option's empty default (issue #17)", async () => {
     for (const command of ['solve', 'sweep', 'report', 'step', 'pulse']) {
       const r = await run([command, '--help']);
