@@ -169,6 +169,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .option('--series <E>', 'preferred-value series: E6, E12, E24, E96 (default E12)')
     .option('--margin <VOLTS>', "the noise margin every net must keep; overrides the design's")
     .option('--age <SCENARIO>', 'ageing scenario: new, aged, low-heater, interface, end-of-life', 'new')
+    .option('--json', 'print the choices as tubemargin.tune/1 JSON')
     .action(async (file: string, opts: TuneCliOptions) => {
       code = await runTune(file, { ...program.opts(), ...opts }, io);
     });

@@ -2,6 +2,7 @@ import { E_SERIES, tuneStage, type SeriesName, type TuneCandidate } from '../lib
 import { formatSI, table, wrap } from '../lib/report/format.js';
 import { withProgress } from './progress.js';
 import type { CliIo } from './io.js';
+import { tuneOutcome, tuneToJson } from '../lib/report/tuneReport.js';
 import { EXIT, loadForCommand, readRequirement, report, usageError, type GlobalOptions } from './load.js';
 
 export const TUNE_SUMMARY = "choose a stage's resistors from a preferred-value series for the best margins";
@@ -20,6 +21,7 @@ export interface TuneCliOptions extends GlobalOptions {
   series?: string;
   margin?: string;
   age?: string;
+  json?: boolean;
 }
 
 export async function runTune(file: string, options: TuneCliOptions, io: CliIo): Promise<number> {
@@ -46,13 +48,18 @@ export async function runTune(file: string, options: TuneCliOptions, io: CliIo):
     c.weakestNet ?? '—',
     c.driveMargin === undefined ? '—' : c.driveMargin.toFixed(2),
     `${Math.round(c.loadShare * 100)} %`,
-    c.withinLimits ? (c.slack >= 0 ? 'passes' : 'short') : 'over limits',
+    tuneOutcome(c),
   ];
+  const passed = r.best[0] && r.best[0].withinLimits && r.best[0].slack >= 0 ? EXIT.ok : EXIT.failed;
+  if (options.json) {
+    io.stdout(JSON.stringify(tuneToJson(loaded.design, stage, series, r), null, 2) + '\n');
+    return passed;
+  }
   const lines = [
     ...wrap(`Stage ${options.stage} of ${file}: ${r.evaluated} choices from ${series} judged by the worst-case check.`, 80),
     '',
     ...table(
-      ['', 'load', 'series', 'pull-down', 'slack', 'weakest', 'drive', 'load P', ''],
+      ['', 'load', 'series', 'pull-down', 'slack', 'weakest', 'drive', 'load P', 'outcome'],
       [row('  now', r.present), ...r.best.map((c, i) => row(`  ${i + 1}.`, c))],
       [5, 8, 8, 9, 6, 12, 6, 6],
     ),
@@ -62,5 +69,5 @@ export async function runTune(file: string, options: TuneCliOptions, io: CliIo):
     "  load's power as a share of its rating, at most 50 %)",
   ];
   io.stdout(lines.join('\n') + '\n');
-  return r.best[0] && r.best[0].withinLimits && r.best[0].slack >= 0 ? EXIT.ok : EXIT.failed;
+  return passed;
 }

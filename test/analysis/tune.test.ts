@@ -33,4 +33,23 @@ describe('choosing a stage\'s resistors', () => {
     for (const line of r.out.split('\n')) expect(line.length, line).toBeLessThanOrEqual(80);
     expect((await run(['tune', 'nets/nor-adder.tube', '--stage', 'y2', '--series', 'E7'])).code).toBe(2);
   });
+
+  it('gives the same choices as tubemargin.tune/1 JSON, and heads every column of the table (issue #17)', async () => {
+    const text = await run(['tune', 'nets/nor-adder.tube', '--stage', 'y2', '--series', 'E6']);
+    const json = await run(['tune', 'nets/nor-adder.tube', '--stage', 'y2', '--series', 'E6', '--json']);
+    expect(json.code).toBe(text.code);
+    const doc = JSON.parse(json.out);
+    expect(doc.schema).toBe('tubemargin.tune/1');
+    expect(doc.stage).toBe('y2');
+    expect(doc.present).toMatchObject({ load: 33e3, series: 220e3, pulldown: 220e3 });
+    // Each row of the table is a choice of the JSON, in the same order, with the same outcome word.
+    const rows = text.out.split('\n').filter((l) => /^ {2}(now|\d\.) /.test(l));
+    const choices = [doc.present, ...doc.best];
+    expect(rows.length).toBe(choices.length);
+    rows.forEach((row, i) => {
+      expect(row.trimEnd().endsWith(choices[i].outcome), row).toBe(true);
+      expect(row).toContain(choices[i].slack.toFixed(2));
+    });
+    expect(text.out).toMatch(/load P +outcome\n/);
+  });
 });
