@@ -29,7 +29,7 @@ export interface AgeingScenario {
  *   cut off for thousands of hours (common practice, no source).
  */
 export const AGEING_SCENARIOS: readonly AgeingScenario[] = [
-  { name: 'new', summary: 'new tubes: only the tube-to-tube spread of each type', endOfLife: 1, heater: 1, interfaceOhms: 0 },
+  { name: 'new', summary: 'new tubes, only the tube-to-tube spread of each type', endOfLife: 1, heater: 1, interfaceOhms: 0 },
   { name: 'aged', summary: 'tubes anywhere from new to end of life (60 % of new emission)', endOfLife: 0.6, heater: 1, interfaceOhms: 0 },
   { name: 'low-heater', summary: 'heaters 10 % low: emission down to 80 %', endOfLife: 1, heater: 0.8, interfaceOhms: 0 },
   { name: 'interface', summary: 'cathode interface layers of up to 5 kΩ in every section', endOfLife: 1, heater: 1, interfaceOhms: 5000 },

@@ -348,8 +348,8 @@ function renderRatings(g: Ratings): string[] {
   if (g.rails.some((r) => !Number.isFinite(r.amps))) append(out, indented('Rail currents: not measured, because the nominal operating point did not converge (run solve to see where).', '  ', '    '));
   else if (g.rails.length > 0) append(out, indented(`Rails at the nominal operating point: ${g.rails.map((r) => `${r.rail} ${formatSI(r.amps, 'A')} (${formatSI(Math.abs(r.watts), 'W')})`).join(', ')}.`, '  ', '    '));
   for (const h of g.heaters) {
-    const strings = h.strings.map((s) => `${s.strings} strings of ${s.perString} across ${s.rail} with ${formatSI(s.droppingOhms, 'Ω')} (${formatSI(s.droppingWatts, 'W')}) each`).join('; or ');
-    append(out, indented(`Heaters, ${h.model} (${h.designation}): ${h.envelopes} envelopes at ${h.volts} V, ${formatSI(h.amps, 'A')} each, ${formatSI(h.envelopes * h.amps, 'A')} in parallel${strings ? `; or ${strings}` : ''}.`, '  ', '    '));
+    const strings = h.strings.map((s) => `${s.strings} ${s.strings === 1 ? 'string' : 'strings'} of ${s.perString} across ${s.rail} with ${formatSI(s.droppingOhms, 'Ω')} (${formatSI(s.droppingWatts, 'W')}) each`).join('; or ');
+    append(out, indented(`Heaters, ${h.model === h.designation ? h.model : `${h.model} (${h.designation})`}: ${h.envelopes} envelopes at ${h.volts} V, ${formatSI(h.amps, 'A')} each, ${formatSI(h.envelopes * h.amps, 'A')} in parallel${strings ? `; or ${strings}` : ''}.`, '  ', '    '));
   }
   for (const f of g.followers) append(out, indented(`${f.section}, a cathode follower: ${v(f.volts)} V heater to cathode${f.rating === undefined ? '' : ` against ${f.rating} V`}${f.ok ? '' : ': OVER'}`, '  ', '    '));
   return out;
@@ -438,16 +438,18 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
     ...(undecidedNets.length > 0 ? [` ${undecidedNets.length} of ${r.nets.length} nets could be shown neither to keep their margins nor to fail them`] : []),
     ...(undecidedLatches.length > 0 ? [` ${undecidedLatches.length} of ${r.latches.length} latches could be shown neither to hold nor to lose a state`] : []),
   ].join(';');
+  // "scenario new: new tubes, …": the name as the user types it for --age, then what it means.
+  const scenario = `scenario ${r.scenario.name}: ${r.scenario.summary}`;
   const verdict =
     r.nets.length === 0 && r.latches.length === 0
       ? `${r.verdict === 'pass' ? 'PASS' : 'FAIL'}: no logic net to judge (no section drives a net); ${r.verdict === 'pass' ? 'every part keeps within its rating.' : 'parts run over their ratings (below).'}`
       : r.verdict === 'pass'
-      ? `PASS: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}).`
+      ? `PASS: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${scenario}).`
       : r.verdict === 'undecided'
-        ? `UNDECIDED: nothing is shown to fail in worst case (${r.scenario.name}: ${r.scenario.summary}), but${undecidedWords}: it may fail (below).`
+        ? `UNDECIDED: nothing is shown to fail in worst case (${scenario}), but${undecidedWords}: it may fail (below).`
         : failing.length + badLatches.length === 0 && r.settled && r.ratings?.ok === false
-          ? `FAIL: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${r.scenario.name}: ${r.scenario.summary}), but parts run over their ratings (below).`
-          : `FAIL: ${failWords} fail in worst case (${r.scenario.name}: ${r.scenario.summary}); required margin ${v(r.requiredMargin)} V.${overRating}${undecidedWords ? `${undecidedWords} (below).` : ''}`;
+          ? `FAIL: every net keeps ${v(r.requiredMargin)} V of margin${latchWords}, in worst case (${scenario}), but parts run over their ratings (below).`
+          : `FAIL: ${failWords} fail in worst case (${scenario}); required margin ${v(r.requiredMargin)} V.${overRating}${undecidedWords ? `${undecidedWords} (below).` : ''}`;
   append(out, wrap(verdict, REPORT_COLUMNS));
   for (const m of r.modelRange) append(out, wrap(`The verdict rests on a model used outside its trusted range: ${m}; fit the type to bench readings of your own tubes at these voltages (tubemargin fit).`, REPORT_COLUMNS));
   if (!r.settled) append(out, wrap(`The worst-case levels around a loop did not settle in ${r.rounds} rounds.`, REPORT_COLUMNS));

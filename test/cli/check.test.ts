@@ -105,6 +105,26 @@ describe('tubemargin check', () => {
   });
 });
 
+describe('the wording of check (issue #17)', () => {
+  it('names the scenario once, counts one string in the singular and a library type once', async () => {
+    const design = `title "two-stage latch on a library type"
+rail bp = 24 V tol 5 %
+rail bias = -12 V tol 5 %
+defaults { tolerance = 5 %, margin = 1.5 V, tube = "6AU6" }
+stage q  { load 39 k to bp; screen bp; input nq series 220 k pulldown 220 k to bias }
+stage nq { load 39 k to bp; screen bp; input q series 220 k pulldown 220 k to bias }
+`;
+    const r = await run(['check', 'l.tube'], { 'l.tube': design });
+    const text = r.out.replace(/\n +/g, ' ');
+    expect(text).toContain('(scenario new: new tubes, only the tube-to-tube spread of each type)');
+    expect(text).not.toMatch(/new: new tubes:/);
+    // Two envelopes: one string of two across bp; the type is the library's own, named once.
+    expect(text).toMatch(/Heaters, 6AU6: 2 envelopes/);
+    expect(text).toMatch(/or 1 string of 2 across bp/);
+    expect(text).not.toMatch(/\b1 strings\b/);
+  });
+});
+
 describe('tubemargin check --samples', () => {
   it('adds the yield with its interval, the margin distributions and the failing samples', async () => {
     const r = await run(['check', 'nets/nor-adder.tube', '--samples', '400', '--seed', '7', '--workers', '1']);
