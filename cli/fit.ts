@@ -26,7 +26,8 @@ const KINDS: ModelKind[] = ['koren-triode', 'koren-pentode', 'child-langmuir'];
 
 export function runFit(file: string, options: FitCliOptions, io: CliIo): number {
   const kind = options.kind as ModelKind;
-  if (!KINDS.includes(kind)) return usageError(io, `--kind takes one of ${KINDS.join(', ')}, not '${options.kind ?? ''}'`);
+  if (options.kind === undefined) return usageError(io, `name the model kind to fit: --kind ${KINDS.join(', --kind ')}`);
+  if (!KINDS.includes(kind)) return usageError(io, `--kind takes one of ${KINDS.join(', ')}, not '${options.kind}'`);
   const name = options.name ?? 'BENCH';
   if (!/^[A-Za-z_][A-Za-z0-9_]*$/.test(name)) return usageError(io, `--name takes a type name (letters, digits, _), not '${name}'`);
   let text: string;
@@ -39,12 +40,12 @@ export function runFit(file: string, options: FitCliOptions, io: CliIo): number 
   const sources = new Map([[file, text]]);
   const parsed = parseReadings(file, text);
   if (parsed.diagnostics.length > 0) {
-    report(parsed.diagnostics, sources, io);
+    report(parsed.diagnostics, sources, io, 'the readings have errors; fix them and run again');
     return EXIT.badInput;
   }
   const answer = fitReadings(parsed.value, kind);
   if ('refusal' in answer) {
-    report([{ code: 'fit-refused', severity: 'error', message: `no fit: ${answer.refusal}`, span: undefined, notes: [] }], sources, io);
+    report([{ code: 'fit-refused', severity: 'error', message: `no fit: ${answer.refusal}`, span: undefined, notes: [] }], sources, io, '');
     return EXIT.badInput;
   }
   const out = options.json ? JSON.stringify(fitToJson(answer.fit), null, 2) + '\n' : fitToText(answer.fit, name, file);

@@ -29,11 +29,18 @@ export function loadForCommand(file: string, io: CliIo, options: GlobalOptions):
   return loaded.ok && loaded.design ? { design: loaded.design, sources: loaded.sources } : undefined;
 }
 
-/** Prints diagnostics to stderr, rendered against the sources, with a closing line when any is an error. */
-export function report(diagnostics: Diagnostic[], sources: ReadonlyMap<string, string>, io: CliIo): void {
+/** The closing line under errors in a design file. */
+const DESIGN_ERRORS = 'the design has errors; fix them and run again';
+
+/**
+ * Prints diagnostics to stderr, rendered against the sources, with a closing line when any
+ * is an error, saying what to fix (`closing`: the design by default; '' for none, where
+ * the error itself says all).
+ */
+export function report(diagnostics: Diagnostic[], sources: ReadonlyMap<string, string>, io: CliIo, closing = DESIGN_ERRORS): void {
   if (diagnostics.length === 0) return;
   io.stderr(formatDiagnostics(diagnostics, sources, chalkFor(io, 'stderr')) + '\n');
-  if (hasErrors(diagnostics)) io.stderr('the design has errors; fix them and run again\n');
+  if (hasErrors(diagnostics) && closing !== '') io.stderr(`${closing}\n`);
 }
 
 /**

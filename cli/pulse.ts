@@ -102,7 +102,7 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
     if (typeof sequence === 'number') return sequence;
     const stepped = stepDesign(design, sequence.actions, { hints });
     if (!('rows' in stepped)) {
-      report(stepped.diagnostics, sequence.sources, io);
+      report(stepped.diagnostics, sequence.sources, io, 'the --after sequence names what the design lacks; fix it and run again');
       return EXIT.badInput;
     }
     if (!stepped.ok || !stepped.final) {
@@ -118,7 +118,7 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
     // A drive or net the options name that the design lacks is a usage error, not the design's.
     const ofOptions = r.diagnostics.filter((d) => d.span === undefined && ['unknown-part', 'unknown-net', 'short-circuit'].includes(d.code));
     if (ofOptions.length > 0) {
-      for (const d of ofOptions) usageError(io, d.message);
+      for (const d of ofOptions) usageError(io, [d.message, ...d.notes].join('; '));
       return EXIT.badInput;
     }
     report(r.diagnostics, loaded.sources, io);

@@ -45,7 +45,7 @@ export function readSequence(given: string, option: string, designSources: Reado
     return usageError(io, `cannot read the sequence file '${text.trim()}' (nor is it a sequence: actions are press, release, close, open, pulse, set, expect)`);
   }
   if (parsed.diagnostics.length > 0) {
-    report(parsed.diagnostics, sources, io);
+    report(parsed.diagnostics, sources, io, `the sequence (${option}) has errors; fix it and run again`);
     return EXIT.badInput;
   }
   return { actions: parsed.value, sources };
@@ -65,7 +65,7 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
   const nets = options.nets?.split(',').map((n) => n.trim()).filter(Boolean);
   const r = stepDesign(loaded.design, actions, { hints, nets, check: 'verdict' in check ? check : undefined });
   if (!('rows' in r)) {
-    report(r.diagnostics, sources, io);
+    report(r.diagnostics, sources, io, 'the sequence or --nets names what the design lacks; fix it and run again');
     return EXIT.badInput;
   }
   // The levels the sequence sets count for the safety cautions as the design's own do.

@@ -2,7 +2,7 @@ import type { Design } from '../design/model.js';
 import { buildStageGraph, type StageGraph } from '../graph/stageGraph.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import { simulate, type TransientOptions, type TransientResult } from '../solve/transient.js';
-import { watchedNets } from './stepper.js';
+import { unknownWatched, watchedNets } from './stepper.js';
 import { stageTimings, statesAt, type StageTiming } from './timing.js';
 import type { Waveform } from './waveform.js';
 
@@ -51,7 +51,7 @@ export function pulseDesign(design: Design, options: PulseOptions): PulseRun | {
   }
   const logic = new Set(graph.nets.map((n) => n.name));
   const nets = options.nets ?? watchedNets(graph);
-  for (const n of nets) if (!logic.has(n)) diagnostics.push(error('unknown-net', `'${n}' (a watched net) is no logic net of the design`, undefined));
+  diagnostics.push(...unknownWatched(nets, logic));
   if (diagnostics.length > 0) return { diagnostics };
   const run = simulate(design, options);
   if (!('times' in run)) return run;

@@ -2,6 +2,7 @@ import { fixedVolts, isGeneratedName, type Design, type Part } from '../design/m
 import { buildStageGraph, type StageGraph } from '../graph/stageGraph.js';
 import { logicThreshold, RESIDUAL_LIMIT, solveOperatingPoint, type OperatingPoint, type StateHint } from '../solve/operatingPoint.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
+import { didYouMean } from '../source/suggest.js';
 import type { CheckResult } from './check.js';
 import { HeldNet } from './heldNet.js';
 import type { SequenceAction } from './sequence.js';
@@ -64,15 +65,18 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
   const logic = new Set(graph.nets.map((n) => n.name));
   for (const a of actions) {
     if (a.kind === 'expect') {
-      for (const s of a.states) if (!logic.has(s.net)) diagnostics.push(error('unknown-net', `the sequence expects a state of '${s.net}', which is no logic net of the design`, a.span));
+      for (const s of a.states) if (!logic.has(s.net)) diagnostics.push(error('unknown-net', `the sequence expects a state of '${s.net}', which is no logic net of the design`, a.span, didYouMean(s.net, logic)));
       continue;
     }
     const p = parts.get(a.part);
     const want = a.kind === 'set' ? 'drive' : 'switch';
-    if (!p || p.type !== want) diagnostics.push(error('unknown-part', `the sequence's '${a.kind}' names '${a.part}', which is no ${want === 'drive' ? 'drive' : 'switch or button'} of the design`, a.span));
+    if (!p || p.type !== want) {
+      const alike = design.parts.filter((q) => q.type === want).map((q) => q.name);
+      diagnostics.push(error('unknown-part', `the sequence's '${a.kind}' names '${a.part}', which is no ${want === 'drive' ? 'drive' : 'switch or button'} of the design`, a.span, didYouMean(a.part, alike)));
+    }
   }
   const nets = options.nets ?? watchedNets(graph);
-  for (const n of nets) if (!logic.has(n)) diagnostics.push(error('unknown-net', `'${n}' (a watched net) is no logic net of the design`, undefined));
+  diagnostics.push(...unknownWatched(nets, logic));
   if (diagnostics.length > 0) return { diagnostics };
 
   const closed = new Map(design.parts.flatMap((p) => (p.type === 'switch' ? [[p.name, p.closed && !p.momentary] as const] : [])));
@@ -207,4 +211,9 @@ export function stepDesign(design: Design, actions: readonly SequenceAction[], o
     }
   }
   return { nets, rows, ok: rows.every((r) => r.converged && r.expected.every((e) => e.ok)), final: previous };
+}
+
+/** An error for each net to watch (`--nets`) that is no logic net, with the nearest name as a suggestion. */
+export function unknownWatched(nets: readonly string[], logic: ReadonlySet<string>): Diagnostic[] {
+  return nets.filter((n) => !logic.has(n)).map((n) => error('unknown-net', `'${n}' (a watched net) is no logic net of the design`, undefined, didYouMean(n, logic)));
 }

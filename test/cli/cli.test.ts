@@ -6,6 +6,7 @@ import { describe, expect, it } from 'vitest';
 import { readDesignFile, type CliIo } from '../../cli/io.js';
 import { runCli } from '../../cli/main.js';
 import { ROOT, demoDesigns } from '../helpers.js';
+import { runCommand } from '../cliRun.js';
 
 interface Run {
   code: number;
@@ -147,5 +148,33 @@ describe('tubemargin on the command line', () => {
     expect(out).toContain('NOR full adder');
     const bad = spawnSync(process.execPath, [join(ROOT, 'bin/tubemargin.js'), 'show', 'docs/examples/broken-latch.tube'], { cwd: ROOT, encoding: 'utf8' });
     expect(bad.status).toBe(2);
+  });
+});
+
+describe('errors outside the design say what to fix (issue #17)', () => {
+  it('a mistyped button or watched net gets a "did you mean", and the closing line blames the sequence, not the design', async () => {
+    const typo = await run(['step', 'nets/irrigation-sequencer.tube', '--sequence', 'pulse STPO']);
+    expect(typo.code).toBe(2);
+    expect(typo.err).toContain("did you mean 'STOP'?");
+    expect(typo.err).not.toContain('the design has errors');
+    expect(typo.err).toContain('the sequence or --nets names what the design lacks');
+    const net = await run(['step', 'nets/nor-adder.tube', '--sequence', 'close SA', '--nets', 'x1,x9']);
+    expect(net.code).toBe(2);
+    expect(net.err).toContain("did you mean 'x1'?");
+    const syntax = await run(['step', 'nets/nor-adder.tube', '--sequence', 'pulse']);
+    expect(syntax.code).toBe(2);
+    expect(syntax.err).toContain('the sequence (--sequence) has errors');
+    expect(syntax.err).not.toContain('the design has errors');
+  });
+
+  it('fit without --kind asks for one, and bad readings are the readings\' errors', async () => {
+    const none = await runCommand(['fit', 'r.csv'], { 'r.csv': 'va,vg,ia\n100,0,0.001\n' });
+    expect(none.code).toBe(2);
+    expect(none.err).toMatch(/name the model kind to fit: --kind koren-triode/);
+    expect(none.err).not.toContain("not ''");
+    const bad = await runCommand(['fit', 'r.csv', '--kind', 'koren-triode'], { 'r.csv': 'va,vg\n1,2\n' });
+    expect(bad.code).toBe(2);
+    expect(bad.err).toContain('the readings have errors');
+    expect(bad.err).not.toContain('the design has errors');
   });
 });
