@@ -51,6 +51,9 @@ export function readSequence(given: string, option: string, designSources: Reado
   return { actions: parsed.value, sources };
 }
 
+/** Digits of the state on one line: more watched nets go on below, a line each 16. */
+const STATE_DIGITS = 16;
+
 export function runStep(file: string, options: StepCliOptions, io: CliIo): number {
   if (!options.sequence) return usageError(io, 'give the sequence: --sequence FILE or --sequence "press START; expect on=1"');
   const hints = readStates(options.hint ?? [], '--hint', io);
@@ -77,17 +80,22 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
   const out = [`${loaded.design.title || '(untitled design)'} — ${file}`, 'Watched nets, in the order of the state column:'];
   r.nets.forEach((n, i) => out.push(`  ${String(i + 1).padStart(2)}. ${n}`));
   out.push('');
-  append(out, table(
-      ['  step', 'action', 'state', 'margin', 'expected'],
-      r.rows.map((row, i) => [
-        `  ${i}`,
-        row.action,
-        row.converged ? row.states.map((s) => (s.high ? '1' : '0')).join('') : 'no solution',
-        row.margin ? `${row.margin.volts.toFixed(2)} ${row.margin.net}` : '',
-        row.expected.length === 0 ? '' : row.expected.every((e) => e.ok) ? 'held' : row.expected.filter((e) => !e.ok).map((e) => `NOT ${e.net}=${e.high ? 1 : 0}`),
-      ]),
-      [6, 28, 12, 18],
-    ));
+  // A state longer than its column goes on in lines of its own below the row, never cut.
+  const chunks = (row: (typeof r.rows)[number]) => (row.converged ? (row.states.map((x) => (x.high ? '1' : '0')).join('').match(new RegExp(`.{1,${STATE_DIGITS}}`, 'g')) ?? ['']) : ['no solution']);
+  const actionWidth = Math.min(28, Math.max('action'.length, ...r.rows.map((row) => row.action.length)));
+  const lines = table(
+    ['  step', 'action', 'state', 'margin', 'expected'],
+    r.rows.map((row, i) => [
+      `  ${i}`,
+      row.action,
+      chunks(row)[0]!,
+      row.margin ? `${row.margin.volts.toFixed(2)} ${row.margin.net}` : '',
+      row.expected.length === 0 ? '' : row.expected.every((e) => e.ok) ? 'held' : row.expected.filter((e) => !e.ok).map((e) => `NOT ${e.net}=${e.high ? 1 : 0}`),
+    ]),
+    [6, actionWidth, STATE_DIGITS, 18],
+  );
+  out.push(lines[0]!);
+  r.rows.forEach((row, i) => out.push(lines[i + 1]!, ...chunks(row).slice(1).map((c) => ' '.repeat(6 + 2 + actionWidth + 2) + c)));
   out.push('  (state: 1 high, 0 low, a digit a watched net; margin: the smallest worst-case');
   out.push('  noise margin of the watched nets in their present states, volts, and whose)');
   for (const [i, row] of r.rows.entries()) if (row.why !== undefined) append(out, wrap(`Step ${i} has no solution: ${row.why}.`, 80));

@@ -178,3 +178,20 @@ describe('errors outside the design say what to fix (issue #17)', () => {
     expect(bad.err).not.toContain('the design has errors');
   });
 });
+
+describe('step prints every watched net (issue #17)', () => {
+  it('a state longer than its column goes on below the row, every digit there, none cut', async () => {
+    const r = await runCommand(['step', 'nets/crate-tally.tube', '--sequence', 'docs/examples/crate-count.seq']);
+    const watched = r.out.split('\n').filter((l) => /^ +\d+\. /.test(l)).length;
+    expect(watched).toBeGreaterThan(16);
+    const lines = r.out.split('\n');
+    const header = lines.findIndex((l) => l.startsWith('  step  action'));
+    const column = lines[header]!.indexOf('state');
+    // The start row and the lines of digits under it, down to the next row.
+    const start = [lines[header + 1]!.slice(column).split(' ')[0]!];
+    for (let i = header + 2; /^ +[01]+$/.test(lines[i]!); i++) start.push(lines[i]!.trim());
+    expect(start.join('')).toMatch(new RegExp(`^[01]{${watched}}$`));
+    expect(r.out).not.toMatch(/[01]…/);
+    for (const line of lines) expect(line.length, line).toBeLessThanOrEqual(80);
+  });
+});
