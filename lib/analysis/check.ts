@@ -45,7 +45,7 @@ export interface CheckOptions {
   narrow?: boolean;
   /** The work refinement may spend (`CORNER_WORK` when absent): a harness that runs thousands of checks sets less. */
   cornerWork?: number;
-  /** Told as the levels' rounds and the search of corners go on. */
+  /** Told as each phase goes on: the rounds of levels, the receivers, the latches, the rail boxes and the corners. */
   onProgress?: Progress;
 }
 

@@ -383,10 +383,10 @@ const netCount = new WeakMap<Design, number>();
 /** The work of one search of a whole design, estimated once per design. */
 const searchWork = new WeakMap<Design, number>();
 
-/** What is left of `CORNER_WORK` in one check. */
 /** The phase a budget's spending is told as: the bar's total is the most the search may do, which it often does not need. */
 const BUDGET_PHASE = 'corners, % of the most the budget allows';
 
+/** What is left of `CORNER_WORK` in one check. */
 export class CornerBudget {
   /** The work the check started with. */
   readonly total: number;
