@@ -82,7 +82,6 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
   out.push('');
   // A state longer than its column goes on in lines of its own below the row, never cut.
   const chunks = (row: (typeof r.rows)[number]) => (row.converged ? (row.states.map((x) => (x.high ? '1' : '0')).join('').match(new RegExp(`.{1,${STATE_DIGITS}}`, 'g')) ?? ['']) : ['no solution']);
-  const actionWidth = Math.min(28, Math.max('action'.length, ...r.rows.map((row) => row.action.length)));
   const lines = table(
     ['  step', 'action', 'state', 'margin', 'expected'],
     r.rows.map((row, i) => [
@@ -92,10 +91,11 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
       row.margin ? `${row.margin.volts.toFixed(2)} ${row.margin.net}` : '',
       row.expected.length === 0 ? '' : row.expected.every((e) => e.ok) ? 'held' : row.expected.filter((e) => !e.ok).map((e) => `NOT ${e.net}=${e.high ? 1 : 0}`),
     ]),
-    [6, actionWidth, STATE_DIGITS, 18],
+    [6, 28, STATE_DIGITS, 18],
   );
+  const column = lines[0]!.indexOf('state');
   out.push(lines[0]!);
-  r.rows.forEach((row, i) => out.push(lines[i + 1]!, ...chunks(row).slice(1).map((c) => ' '.repeat(6 + 2 + actionWidth + 2) + c)));
+  r.rows.forEach((row, i) => out.push(lines[i + 1]!, ...chunks(row).slice(1).map((c) => ' '.repeat(column) + c)));
   out.push('  (state: 1 high, 0 low, a digit a watched net; margin: the smallest worst-case');
   out.push('  noise margin of the watched nets in their present states, volts, and whose)');
   for (const [i, row] of r.rows.entries()) if (row.why !== undefined) append(out, wrap(`Step ${i} has no solution: ${row.why}.`, 80));

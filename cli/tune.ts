@@ -56,7 +56,7 @@ export async function runTune(file: string, options: TuneCliOptions, io: CliIo):
     return passed;
   }
   const lines = [
-    ...wrap(`Stage ${options.stage} of ${file}: ${r.evaluated} choices from ${series} judged by the worst-case check.`, 80),
+    ...wrap(`Stage ${stage} of ${file}: ${r.evaluated} choices from ${series} judged by the worst-case check.`, 80),
     '',
     ...table(
       ['', 'load', 'series', 'pull-down', 'slack', 'weakest', 'drive', 'load P', 'outcome'],

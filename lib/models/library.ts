@@ -148,3 +148,12 @@ export const TUBE_LIBRARY: readonly LibraryEntry[] = [
 export function findLibraryEntry(designation: string): LibraryEntry | undefined {
   return TUBE_LIBRARY.find((e) => e.designation === designation);
 }
+
+/**
+ * How a design's tube type is named in messages: its own name and the library type it
+ * copies ("LOGIC_PENTODE (6AU6)"), or the designation once where the design uses the
+ * library type directly ("6AU6", not "6AU6 (6AU6)").
+ */
+export function typeLabel(name: string, designation: string): string {
+  return name === designation ? name : `${name} (${designation})`;
+}

@@ -1,3 +1,4 @@
+import { typeLabel } from '../models/library.js';
 import { latchSwitchingFails, type CheckResult, type Cause, type NetCheck } from '../analysis/check.js';
 import type { Witness } from '../analysis/cornerSearch.js';
 import { AGEING_SCENARIOS } from '../analysis/ageing.js';
@@ -349,7 +350,7 @@ function renderRatings(g: Ratings): string[] {
   else if (g.rails.length > 0) append(out, indented(`Rails at the nominal operating point: ${g.rails.map((r) => `${r.rail} ${formatSI(r.amps, 'A')} (${formatSI(Math.abs(r.watts), 'W')})`).join(', ')}.`, '  ', '    '));
   for (const h of g.heaters) {
     const strings = h.strings.map((s) => `${s.strings} ${s.strings === 1 ? 'string' : 'strings'} of ${s.perString} across ${s.rail} with ${formatSI(s.droppingOhms, 'Ω')} (${formatSI(s.droppingWatts, 'W')}) each`).join('; or ');
-    append(out, indented(`Heaters, ${h.model === h.designation ? h.model : `${h.model} (${h.designation})`}: ${h.envelopes} envelopes at ${h.volts} V, ${formatSI(h.amps, 'A')} each, ${formatSI(h.envelopes * h.amps, 'A')} in parallel${strings ? `; or ${strings}` : ''}.`, '  ', '    '));
+    append(out, indented(`Heaters, ${typeLabel(h.model, h.designation)}: ${h.envelopes} envelopes at ${h.volts} V, ${formatSI(h.amps, 'A')} each, ${formatSI(h.envelopes * h.amps, 'A')} in parallel${strings ? `; or ${strings}` : ''}.`, '  ', '    '));
   }
   for (const f of g.followers) append(out, indented(`${f.section}, a cathode follower: ${v(f.volts)} V heater to cathode${f.rating === undefined ? '' : ` against ${f.rating} V`}${f.ok ? '' : ': OVER'}`, '  ', '    '));
   return out;

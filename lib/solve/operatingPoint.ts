@@ -1,6 +1,6 @@
 import { GROUND, type Design } from '../design/model.js';
 import { buildStageGraph, type StageGraph } from '../graph/stageGraph.js';
-import { findLibraryEntry } from '../models/library.js';
+import { findLibraryEntry, typeLabel } from '../models/library.js';
 import { R, evaluateTube, P } from '../models/tubeEquations.js';
 import { error, warning, type Diagnostic } from '../source/diagnostic.js';
 import { compileCircuit, type Circuit, type CompileOptions } from './circuit.js';
@@ -344,7 +344,7 @@ function trustedRangeWarnings(design: Design, tubes: TubeOperatingPoint[]): Diag
     const [a, b] = [lowest(outside).toFixed(1), highest(outside).toFixed(1)];
     const range = a === b ? `${a} V` : `${a}–${b} V`;
     out.push(
-      warning('outside-trusted-range', `${model.name} (${entry.designation}) is trusted from ${lo} to ${hi} V on the plate; ${outside.length} conducting section${outside.length === 1 ? '' : 's'} here run${outside.length === 1 ? 's' : ''} at ${range}`, model.span, [
+      warning('outside-trusted-range', `${typeLabel(model.name, entry.designation)} is trusted from ${lo} to ${hi} V on the plate; ${outside.length} conducting section${outside.length === 1 ? '' : 's'} here run${outside.length === 1 ? 's' : ''} at ${range}`, model.span, [
         'fit the type to bench readings of your own tubes at these voltages before trusting the levels',
       ]),
     );

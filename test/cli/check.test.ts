@@ -122,6 +122,9 @@ stage nq { load 39 k to bp; screen bp; input q series 220 k pulldown 220 k to bi
     expect(text).toMatch(/Heaters, 6AU6: 2 envelopes/);
     expect(text).toMatch(/or 1 string of 2 across bp/);
     expect(text).not.toMatch(/\b1 strings\b/);
+    // The trusted-range note names the type once too (one helper, typeLabel, for both).
+    expect(text).toMatch(/outside its trusted range: 6AU6 is trusted/);
+    expect(text).not.toContain('6AU6 (6AU6)');
   });
 });
 
