@@ -50,11 +50,38 @@ export function cutList(items: string[], room: number): string {
   return out || '—';
 }
 
-/** Breaks prose into lines of at most `width` columns at spaces; continuation lines are indented by `indent`. */
+/**
+ * A number and the unit after it ("2.01 V", "220 kΩ", "-12 V", "12 %"), matched up to the
+ * space between them. The number stands alone (not the end of a name such as `V1`) and the
+ * unit is a whole word: an SI unit the reports print, with an optional SI prefix, or `%`.
+ */
+const NUMBER_THEN_UNIT = /(?<![\p{L}\p{N}_.])([-+±−]?\d+(?:\.\d+)?(?:e[-+]?\d+)?) (?=(?:[fpnuµμmkMG]?(?:V|A|W|Ω|F|s|Hz)|%)(?![\p{L}\p{N}]))/gu;
+
+/** Holds a number to its unit while lines are broken; printed as a plain space again. */
+const GLUE = '\u00a0';
+
+/**
+ * Breaks prose into lines of at most `width` columns at spaces; continuation lines are
+ * indented by `indent`. Any run of white space counts as one space, and a number is never
+ * parted from its unit: "99.0 %" moves to the next line whole. A word longer than the
+ * width stands on a line of its own. Only where lines break does the text differ from the
+ * input with its white space squeezed: the glue is printed as the plain space it was, so
+ * copied or searched output reads as before.
+ *
+ * Example: `wrap('yield 99.2 %, interval 99.0 % to 99.3 %', 27)` is
+ * `['yield 99.2 %, interval', '  99.0 % to 99.3 %']`.
+ *
+ * We keep this loop rather than wrap-ansi: colour is added by cli/ after wrapping, so no
+ * escape codes reach it; wrap-ansi has no continuation indent (it would take two passes);
+ * it NFC-normalises the text (a user's U+2126 OHM SIGN would print as U+03A9); and its
+ * string-width loads emoji-regex and builds an Intl.Segmenter at import, about 30 ms on
+ * every command's start (`--version` 263 → 295 ms, median of 15), against issue #16's goal.
+ */
 export function wrap(text: string, width: number, indent = '  '): string[] {
   const lines: string[] = [];
   let line = '';
-  for (const word of text.split(/\s+/)) {
+  // Our own NBSP is the only one left: any the text had is white space like the rest, as it always was.
+  for (const word of text.split(/\s+/).join(' ').replace(NUMBER_THEN_UNIT, `$1${GLUE}`).split(' ')) {
     const candidate = line ? `${line} ${word}` : word;
     if (candidate.length > width && line) {
       lines.push(line);
@@ -62,5 +89,5 @@ export function wrap(text: string, width: number, indent = '  '): string[] {
     } else line = candidate;
   }
   if (line) lines.push(line);
-  return lines;
+  return lines.map((l) => l.replaceAll(GLUE, ' '));
 }
