@@ -1,3 +1,20 @@
+/*
+ * Why our own reader rather than jsonc-parser (issue #17, item 14, tried and measured).
+ * jsonc-parser gives a parse tree with offsets and, with comments and trailing commas
+ * disallowed, is as strict as this file; but it does not keep our diagnostics. Put on it
+ * with our messages mapped from its error codes (about 45 lines), it gave a different
+ * message or line:col than this reader for 6,407 of 20,000 mutated copies of the JSON in
+ * nets/*.expected.json. It names a stray character by its token alone ('unexpected
+ * character "/"') where we say what the grammar wanted there ("expected a key in double
+ * quotes", "expected ':'", "expected ',' or '}'"), and getting that back means following
+ * the grammar's state over its tokens again. It places a bad escape or a control character
+ * at the string's start, not at the character, and calls a line break inside a string
+ * "unterminated"; it fails "1." at the number's start. It has no depth limit (20,000
+ * nested brackets overflow the stack with a RangeError), so the MAX_JSON_DEPTH scan would
+ * stay ours too. With all that mended we estimate 100–110 lines against this file's 170,
+ * in two passes over the text and a conversion of its tree to ours: not simpler, so this
+ * reader stays.
+ */
 import { error, type Checked, type Diagnostic } from '../source/diagnostic.js';
 import { LineIndex, type SourceSpan } from '../source/span.js';
 
