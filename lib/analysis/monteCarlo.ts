@@ -56,6 +56,18 @@ export interface SampleOutcome {
  * come from a stream seeded with the run's seed and k alone (mulberry32, a small public
  * domain generator), so they do not depend on which worker draws them or in what order.
  * The bands are unpacked into typed arrays once, as a run draws thousands of samples.
+ *
+ * Why mulberry32 and not pure-rand (issue #17, item 14): what matters here is a stream per
+ * (seed, sample) made in a few operations, and pure-rand has no keyed streams. Its
+ * generators take one 32-bit seed, so the mix of seed and index below would stay ours; its
+ * 128-bit ones (xorshift128plus, xoroshiro128plus) spread that seed into the sparse state
+ * (-1, ~seed, seed, 0) and give ~seed as their first number, and mersenne would build a
+ * 624-word state for every sample. A switch would also change every seeded figure users
+ * have recorded. Mulberry32's one limit here: all streams are windows of one 2^32 cycle,
+ * so two samples drawing L numbers each overlap with chance about 2L/2^32, and an overlap
+ * hands the same numbers to other parameters, shifted. For 10,000 samples of 200 numbers
+ * that is about 5 pairs in 50 million (counted: 1, 0 and 2 for seeds 7, 1 and 20261217),
+ * raising the variance of the yield by at most 0.1 %.
  */
 export class SampleDrawer {
   private readonly low: Float64Array;
