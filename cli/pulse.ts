@@ -153,7 +153,18 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
   // The waveforms' extremes, for the safety cautions: piecewise linear, so they lie at their corners.
   const applied = [...inputs].flatMap(([name, w]) => [0, stop.value, ...w.corners(stop.value)].map((t) => ({ name, volts: w.at(t) })));
   if (options.output !== undefined) {
-    const html = await renderPulseReport({ design, source: file, run: r, inputs: new Map([...inputs].map(([k, w]) => [k, w.text])), limit, plotted: recorded, applied });
+    const html = await renderPulseReport({
+      design,
+      source: file,
+      run: r,
+      inputs: new Map([...inputs].map(([k, w]) => [k, w.text])),
+      limit,
+      plotted: recorded,
+      applied,
+      expected,
+      missed: misses,
+      warnings: r.run.diagnostics.filter((d) => d.severity === 'warning'),
+    });
     const failed = writeReport(options.output, html, io);
     if (failed !== undefined) return failed;
     io.stderr(`wrote ${options.output}\n`);

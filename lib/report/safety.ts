@@ -3,6 +3,9 @@ import type { Design } from '../design/model.js';
 /** The usual extra-low-voltage limit for DC touch safety, above which the cautions are shown (common practice, no source). */
 export const SAFETY_VOLTS = 60;
 
+/** How the first caution begins, in text output; a page's caution block says it in its heading instead. */
+export const CAUTION_PREFIX = 'CAUTION: ';
+
 /** A level a run applies from outside the design: a waveform's extreme on a drive, a level a step sets. */
 export interface AppliedLevel {
   name: string;
@@ -29,7 +32,7 @@ export function safetyCautions(design: Design, applied: readonly AppliedLevel[] 
   for (const x of high) if (!byName.has(x.name) || Math.abs(x.v) > Math.abs(byName.get(x.name)!)) byName.set(x.name, x.v);
   const names = [...byName].map(([name, v]) => `${name} (${v > 0 ? 'up to' : 'down to'} ${v > 0 ? '' : '−'}${Number(Math.abs(v).toPrecision(3))} V)`).join(', ');
   return [
-    `CAUTION: ${names} exceed${byName.size === 1 ? 's' : ''} ${SAFETY_VOLTS} V. These voltages can kill, and capacitors hold charge after power is off.`,
+    `${CAUTION_PREFIX}${names} exceed${byName.size === 1 ? 's' : ''} ${SAFETY_VOLTS} V. These voltages can kill, and capacitors hold charge after power is off.`,
     'Discharge every capacitor through a resistor before touching the circuit; work with one hand, with insulated tools, away from ground.',
     'This tool checks logic margins, not safety: follow your local electrical codes, and have work on mains-powered or high-voltage equipment done or checked by a licensed person.',
   ];
