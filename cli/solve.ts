@@ -12,13 +12,14 @@ export const SOLVE_HELP = `
 Solves the whole circuit at nominal values: every net's voltage, every section's
 electrode voltages, currents and plate dissipation, every resistor's power. Latches
 start from the states given with --hint (each latch without one starts with its first
-net low) and are then released, so the state reported is a stable one; a hint that does
-not hold means that state does not exist. --close presses a button or closes a switch.
+net in name order low) and are then released, so the state reported is a stable one; a
+hint that does not hold means that state does not exist. --close presses a button or
+closes a switch; a latch set and cleared at once is a state of its own, both nets low.
 --at re-solves a witness of check: the design at the witness's part values, contacts
 and latch states (a witness object, or a whole check --json report with --at-net
 naming the net or latch), and says whether the failure it names is there.
-Exit code 1 when the solution does not converge, a hinted state does not hold, or the
-witness's failure is there.`;
+Exit code 1 when the solution does not converge, a hinted state does not hold, a latch
+sits at its metastable point or has no states, or the witness's failure is there.`;
 
 export interface SolveCliOptions extends GlobalOptions {
   hint?: string[];
@@ -64,6 +65,6 @@ export function runSolve(file: string, options: SolveCliOptions, io: CliIo): num
   }
   if (options.json) io.stdout(JSON.stringify(solveToJson(design, op), null, 2) + '\n');
   else io.stdout(renderSolve(design, op, file));
-  const failed = !op.converged || op.hints.some((h) => !h.held) || op.diagnostics.some((d) => d.code === 'state-undecided');
+  const failed = !op.converged || op.hints.some((h) => !h.held && !h.assumed) || op.diagnostics.some((d) => d.code === 'state-undecided' || d.code === 'latch-no-state');
   return failed ? EXIT.failed : EXIT.ok;
 }

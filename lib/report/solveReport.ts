@@ -23,6 +23,8 @@ export interface SolveJson {
   tubes: Record<string, { vak: number; vgk: number; vg2k: number | null; vg2kWhy?: string; plateAmps: number; gridAmps: number; screenAmps: number; plateWatts: number; screenWatts: number }>;
   resistors: Record<string, { amps: number; watts: number; ratingWatts: number }>;
   hints: { net: string; state: 0 | 1; assumed: boolean; volts: number; held: boolean }[];
+  /** Latches whose inputs hold both nets at one level (a stable state, not the metastable point). */
+  forcedLatches: { nets: [string, string]; volts: [number, number]; both: 0 | 1 }[];
   warnings: { code: string; message: string }[];
   cautions: string[];
 }
@@ -51,6 +53,7 @@ export function solveToJson(design: Design, op: OperatingPoint): SolveJson {
     tubes,
     resistors,
     hints: op.hints.map((h) => ({ net: h.net, state: h.high ? 1 : 0, assumed: h.assumed, volts: h.volts, held: h.held })),
+    forcedLatches: op.forcedLatches.map((l) => ({ nets: l.nets, volts: l.volts, both: l.high ? 1 : 0 })),
     warnings: op.diagnostics.map((d) => ({ code: d.code, message: d.message })),
     cautions: safetyCautions(design),
   };
@@ -75,8 +78,17 @@ export function renderSolve(design: Design, op: OperatingPoint, source: string):
     out.push('');
     out.push('Started from');
     for (const h of op.hints) {
-      out.push(`  ${h.net}=${h.high ? 1 : 0}${h.assumed ? ' (chosen by the tool; --hint picks another state)' : ''}: ${h.held ? 'held' : 'NOT HELD'} at ${v2(h.volts)} V`);
+      const state = `${h.net}=${h.high ? 1 : 0}`;
+      if (!h.assumed) out.push(`  ${state}: ${h.held ? 'held' : 'NOT HELD'} at ${v2(h.volts)} V`);
+      else if (h.held) out.push(`  ${state} (chosen by the tool; --hint picks another state): held at ${v2(h.volts)} V`);
+      else append(out, wrap(`${state} (chosen by the tool): that state does not exist here; settled in ${h.net}=${h.high ? 0 : 1} at ${v2(h.volts)} V`, REPORT_COLUMNS - 2).map((l, i) => (i === 0 ? `  ${l}` : l)));
     }
+  }
+  for (const l of op.forcedLatches) {
+    append(out, wrap(
+        `latch ${l.nets[0]} ↔ ${l.nets[1]} is held with both nets ${l.high ? 'high' : 'low'} (${v2(l.volts[0])} V, ${v2(l.volts[1])} V) by its inputs${l.high ? '' : ', its set and clear acting at once'}: a stable state while they act, not the metastable point.`,
+        REPORT_COLUMNS,
+      ));
   }
   for (const d of op.diagnostics) append(out, wrap(`${d.severity}: ${d.message}`, REPORT_COLUMNS));
   out.push('');

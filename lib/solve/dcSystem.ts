@@ -444,6 +444,31 @@ export class DcSystem {
     return { resistors, fixed, perveance };
   }
 
+  /**
+   * The small-signal resistance seen into each of `nodes` at `x` with the rest of the
+   * circuit in place: entry i of (∂F/∂x)⁻¹ at row and column i, the voltage a unit current
+   * pushed into the node would raise it by. Positive at every node of a circuit at rest in a
+   * stable state. At a cross-coupled pair's metastable point the loop gain around the pair
+   * exceeds one, and the resistance seen into either of its nets is negative: held at one
+   * net, the rest of the circuit is stable, so by Cramer's rule the sign of the entry is the
+   * sign of det(∂F/∂x), which the one unstable mode (a real eigenvalue of the wrong sign)
+   * turns negative (Cramer's rule; the same sign test as for a negative-resistance
+   * element). One factorisation serves every node; undefined when the Jacobian cannot be
+   * factored.
+   */
+  drivingPointOhms(x: Float64Array, nodes: readonly number[], s: NewtonSettings): number[] | undefined {
+    this.assemble(x, s);
+    if (!this.lu.factor()) return undefined;
+    const e = new Float64Array(this.circuit.n);
+    const z = new Float64Array(this.circuit.n);
+    return nodes.map((node) => {
+      e.fill(0);
+      e[node] = 1;
+      this.lu.solve(e, z);
+      return z[node]!;
+    });
+  }
+
   private diodeConductance(d: number, vd: number): number {
     return diodeLaw(this.circuit.dIs[d]!, this.circuit.dNVt[d]!, vd).g;
   }

@@ -66,6 +66,14 @@ export interface HintOutcome {
   held: boolean;
 }
 
+/** A latch whose inputs hold both of its nets at one level: a stable state, not the metastable point. */
+export interface ForcedLatch {
+  nets: [string, string];
+  volts: [number, number];
+  /** Both nets high (both sides cut off) rather than both low (set and clear at once). */
+  high: boolean;
+}
+
 export interface OperatingPoint {
   converged: boolean;
   /** How the solution was reached. */
@@ -80,6 +88,8 @@ export interface OperatingPoint {
   /** Nets outside the span of the fixed voltages (`voltageSpan`), as `name at V`: empty for a solution; any makes it not converged. */
   outsideSpan: string[];
   hints: HintOutcome[];
+  /** Latches held with both nets at one level by their inputs (stable; not `state-undecided`). */
+  forcedLatches: ForcedLatch[];
   diagnostics: Diagnostic[];
   /** The solved unknowns, to warm-start another solve of the same system. */
   x: Float64Array;
@@ -135,12 +145,16 @@ function pullUpVolts(design: Design): (net: string) => number {
  * limiting, falling back on gmin stepping, then source stepping, then pseudo-transient
  * continuation.
  *
- * State selection: hinted nets (and, for every latch no hint covers, its first net low)
- * are first pinned towards their logic level through a conductance, which is then stepped
- * down to zero; each stage starts from the last. So a latch settles in the stable state
- * nearest the hint; if that state does not exist the pinned net lets go, and the outcome
- * says the hint was not held. A latch whose two nets end within 10 % of their swing of
- * each other is reported as undecided (the metastable point), never as a state.
+ * State selection: hinted nets (and, for every latch no hint covers, its first net in name
+ * order low, as `show` lists the latch) are first pinned towards their logic level through a
+ * conductance, which is then stepped down to zero; each stage starts from the last. So a
+ * latch settles in the stable state nearest the hint; if that state does not exist the
+ * pinned net lets go, and the outcome says the hint was not held (a warning for the user's
+ * hint; for the tool's own choice, only the outcome). A latch whose two nets end within
+ * 10 % of their swing of each other is reported as undecided (the metastable point, never
+ * a state) when the resistance seen into its nets is negative (`drivingPointOhms`), and
+ * as a forced state (`forcedLatches`) when it is positive: both nets low because set and
+ * clear act at once, or both high.
  *
  * After every solve the KCL residual of the real circuit is checked at every node: above
  * 1 nA the result is marked not converged, with the nets that would not settle. So is a
@@ -280,26 +294,48 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
   const outcomes: HintOutcome[] = hints.map((h) => {
     const volts = nodes.get(h.net) ?? 0;
     const held = h.high ? volts > h.pullUp / 2 : volts <= h.pullUp / 2;
-    if (!held) {
+    // The tool's own choice of start is only a place to start from: the state the latch
+    // settles in instead is the answer, and the outcome says so; no warning.
+    if (!held && !h.assumed) {
       diagnostics.push(
-        warning('hint-not-held', `${h.net} was started ${h.high ? 'high' : 'low'} but settled at ${volts.toFixed(2)} V: that state does not exist${h.assumed ? '' : ' (the hint was released)'}`, undefined),
+        warning('hint-not-held', `${h.net} was started ${h.high ? 'high' : 'low'} but settled at ${volts.toFixed(2)} V: that state does not exist (the hint was released)`, undefined),
       );
     }
     return { net: h.net, high: h.high, assumed: h.assumed, volts, held };
   });
+  const forcedLatches: ForcedLatch[] = [];
   for (const loop of graph.loops) {
     if (loop.kind !== 'latch') continue;
     const [a, b] = loop.nets as [string, string];
     const swing = pullUpVolts(design)(a);
     const va = nodes.get(a) ?? 0;
     const vb = nodes.get(b) ?? 0;
-    if (Math.abs(va - vb) < 0.1 * swing) {
+    if (Math.abs(va - vb) >= 0.1 * swing) continue;
+    // Two nets at one level are either the metastable point (the pair's loop gain above one:
+    // no state) or a state the inputs force (set and clear at once: both low; both sides
+    // cut off: both high), which is stable and real. The resistance seen into a net tells
+    // them apart: negative only at the unstable point.
+    const terminals = [c.terminalOf.get(a), c.terminalOf.get(b)].filter((t): t is number => t !== undefined && t >= 0);
+    const ohms = converged && terminals.length > 0 ? system.drivingPointOhms(x, terminals, base) : undefined;
+    if (ohms !== undefined && ohms.every((z) => z > 0)) {
+      const high = (va + vb) / 2 > logicThreshold(design, a);
+      const level = high ? 'high' : 'low';
+      const fedFromOutside = [a, b].some((n) => (graph.graph.predecessors(n) ?? []).some((p) => p !== a && p !== b));
+      if (fedFromOutside) forcedLatches.push({ nets: [a, b], volts: [va, vb], high });
+      else {
+        // Nothing but each other feeds the pair, so nothing forces it: a pair that settles
+        // with both nets at one level from a start in one of its states has no such state.
+        diagnostics.push(
+          warning('latch-no-state', `latch ${a} ↔ ${b} holds no state: both nets settle ${level} (${va.toFixed(2)} V, ${vb.toFixed(2)} V), a stable point of the pair with ${high ? 'both sides cut off' : 'both sides conducting'}, and nothing but each other feeds them`, undefined),
+        );
+      }
+    } else {
       diagnostics.push(warning('state-undecided', `latch ${a}/${b} sits undecided at ${va.toFixed(2)} V / ${vb.toFixed(2)} V: it holds no state here`, undefined));
     }
   }
   const tubes = tubeReport(c, x);
   append(diagnostics, trustedRangeWarnings(design, tubes));
-  return { converged, method, iterations, nodes, tubes, resistors: resistorReport(c, x), residualAmps, outsideSpan: outside, hints: outcomes, diagnostics, x, system };
+  return { converged, method, iterations, nodes, tubes, resistors: resistorReport(c, x), residualAmps, outsideSpan: outside, hints: outcomes, forcedLatches, diagnostics, x, system };
 }
 
 /**
@@ -376,6 +412,8 @@ function collectHints(design: Design, graph: StageGraph, given: StateHint[], c: 
   for (const h of given) resolve(h, false);
   for (const loop of graph.loops) {
     if (loop.kind !== 'latch') continue;
+    // The latch's first net is the first of its two in name order (numbers compared as
+    // numbers: `compareNames`), as `show` lists it; it starts low.
     const [a, b] = loop.nets as [string, string];
     if (seen.has(a) || seen.has(b)) continue;
     resolve({ net: a, high: false }, true);

@@ -54,6 +54,7 @@ export const DIAGNOSTIC_CODES = [
   'no-convergence',
   'hint-not-held',
   'state-undecided',
+  'latch-no-state',
   'outside-trusted-range',
   // supply sweeps
   'sweep-range',

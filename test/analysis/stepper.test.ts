@@ -103,6 +103,16 @@ describe('stepping a design through its inputs', () => {
     expect(r.ok).toBe(true);
   });
 
+  it('solves a zone with Stop and Start held at once: both of its latch nets low, a state while they act, then Start wins on Stop\'s release', () => {
+    // Set and clear asserted together pull both sides of a NOR latch low; releasing one
+    // leaves the other in charge (common practice, no source).
+    const seq = parseSequence('s', 'press STOP; press bed[1]/START; expect bed[1]/on=0 bed[1]/off=0; release STOP; expect bed[1]/on=1 bed[1]/off=0');
+    const r = stepDesign(demo('nets/irrigation-sequencer.tube'), seq.value, { nets: ['bed[1]/on', 'bed[1]/off'] });
+    if (!('rows' in r)) throw new Error('no steps');
+    expect(r.rows.map((row) => row.converged)).toEqual([true, true, true, true]);
+    expect(r.ok).toBe(true);
+  });
+
   it('says where a sequence is wrong: a line that is no action, a part or a net the design lacks', () => {
     const bad = parseSequence('s.seq', 'press START\nwiggle STOP\nexpect on=2');
     expect(bad.diagnostics.map((d) => `${d.span!.start.line}:${d.span!.start.col} ${d.code}`)).toEqual(['2:1 sequence-syntax', '3:1 sequence-syntax']);

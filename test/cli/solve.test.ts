@@ -49,10 +49,42 @@ describe('tubemargin solve', () => {
   });
 
   it('exits 1 when the hinted state does not exist: a latch whose pull-downs return to 0 V holds nothing', async () => {
+    // Both grids return to 0 V, so neither can be held below cutoff: both sections conduct,
+    // both grids clamp in grid current, and the pair settles with both plates low, a stable
+    // point (positive resistance into either net), not the metastable one.
     const r = await run(['solve', 'docs/examples/grounded-latch.tube', '--hint', 'q=1']);
     expect(r.code).toBe(1);
     expect(r.out).toContain('q=1: NOT HELD');
-    expect(r.out).toContain('undecided');
+    expect(r.out).toMatch(/latch nq ↔ q holds no state: both nets settle low/);
+    expect(r.out).not.toContain('undecided');
+    const plain = await run(['solve', 'docs/examples/grounded-latch.tube', '--json']);
+    expect(plain.code).toBe(1);
+    expect(JSON.parse(plain.out).warnings.map((w: { code: string }) => w.code)).toContain('latch-no-state');
+  });
+
+  it('says a latch held both-low by its set and clear at once is a stable forced state, and exits 0', async () => {
+    // Both buttons pressed: each side's grid is pulled up by a closed button, so both
+    // sections conduct; a real state while the buttons are held (common practice, no source).
+    const r = await run(['solve', 'nets/irrigation-sequencer.tube', '--close', 'STOP', '--close', 'bed[1]/START']);
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/latch bed\[1\]\/off ↔ bed\[1\]\/on is held with both nets low/);
+    expect(r.out).not.toContain('undecided');
+    const j = JSON.parse((await run(['solve', 'nets/irrigation-sequencer.tube', '--close', 'STOP', '--close', 'bed[1]/START', '--json'])).out);
+    expect(j.forcedLatches).toEqual([{ nets: ['bed[1]/off', 'bed[1]/on'], volts: [expect.any(Number), expect.any(Number)], both: 0 }]);
+    for (const v of j.forcedLatches[0].volts) expect(v).toBeLessThan(5);
+  });
+
+  it('does not fail the run when a state the tool chose itself does not exist: it says where the latch settled', async () => {
+    // STOP clears every bed, so the tool's start bed[2]/off=0 cannot hold while it is pressed.
+    const r = await run(['solve', 'nets/irrigation-sequencer.tube', '--close', 'STOP']);
+    expect(r.code).toBe(0);
+    expect(r.out).toContain('bed[1]/off=0 (chosen by the tool): that state does not exist here; settled in');
+    expect(r.out).not.toContain('NOT HELD');
+    expect(r.out).not.toContain('hint was released');
+    // The user's own hint that cannot hold still fails.
+    const own = await run(['solve', 'nets/irrigation-sequencer.tube', '--close', 'STOP', '--hint', 'bed[1]/on=1']);
+    expect(own.code).toBe(1);
+    expect(own.out).toContain('bed[1]/on=1: NOT HELD');
   });
 
   it('exits 2 on a malformed hint, an unknown net or an unknown switch, with a suggestion', async () => {
