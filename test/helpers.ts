@@ -60,7 +60,7 @@ export function demoDesigns(): string[] {
 
 /** A design without source spans, for comparing models read from different sources. */
 export function withoutSpans<T>(value: T): T {
-  return JSON.parse(JSON.stringify(value, (k, v) => (k === 'span' ? undefined : v)));
+  return JSON.parse(JSON.stringify(value, (k, v) => (k === 'span' || k === 'screenSpan' ? undefined : v)));
 }
 
 /** `checkMargins` on a design that must compile: its result, or the test fails. */

@@ -82,6 +82,7 @@ export function designToJson(design: Design): DesignJson {
   });
   const parts = design.parts.map((p) => {
     const { span: _span, ...rest } = p;
+    if (rest.type === 'tube') delete rest.screenSpan;
     return rest;
   });
   return {

@@ -95,6 +95,8 @@ export interface TubeSection extends PartCommon {
   cathode: string;
   screen?: string;
   suppressor?: string;
+  /** Where a stage's `screen` item was written, so a diagnostic about the screen points at it. */
+  screenSpan?: SourceSpan;
 }
 
 export interface Diode extends PartCommon {

@@ -95,7 +95,8 @@ export function validateDesign(design: Design, file: string): Diagnostic[] {
       out.push(error('missing-field', `section '${p.name}' is a pentode (${m.name}) but its screen is not connected`, p.span, ["in a stage: 'screen RAIL' or 'screen 10 k to RAIL'"]));
     }
     if (m.kind !== 'koren-pentode' && p.screen !== undefined) {
-      out.push(error('unknown-port', `section '${p.name}' is a triode (${m.name}) and has no screen`, p.span));
+      if (p.screenSpan) out.push(error('unknown-port', `stage '${p.stage}' connects a screen, but its tube, ${m.name}, is a triode and has none`, p.screenSpan, ['remove the screen item, or choose a pentode type']));
+      else out.push(error('unknown-port', `section '${p.name}' is a triode (${m.name}) and has no screen`, p.span));
     }
   }
   return out;

@@ -205,6 +205,21 @@ resistor R2 (bp, p2) 10 k`);
     expect(codes(r.diagnostics)).toEqual(['missing-field', 'missing-field', 'stage-no-input']);
   });
 
+  it('reports only the syntax error in a stage, not the tube or input it then seems to lack (the first error is the cause: common practice, no source)', () => {
+    // An unquoted designation breaks the tube item and a pull-down without 'to' breaks the
+    // input: the stage seems to name no tube and have no input, but those follow from the two.
+    const r = load(`${HEADER}stage q { tube 12AU7; load 33 k to bp; input q series 220 k pulldown 470 k }`);
+    expect(where(r.diagnostics)).toEqual(['5:16-5:21 unexpected-token', '5:76-5:77 unexpected-token']);
+    // A stage without syntax errors that lacks them is still told so.
+    expect(codes(load(`${HEADER}stage q { load 33 k to bp }`).diagnostics)).toEqual(['missing-field', 'stage-no-input']);
+  });
+
+  it('points at the screen item, not the input, when a stage gives a triode a screen', () => {
+    const r = load(`${HEADER}stage q { tube LT; load 33 k to bp; screen bp; input q series 220 k pulldown 470 k to bias }`);
+    expect(where(r.diagnostics)).toEqual(['5:37-5:46 unknown-port']);
+    expect(r.diagnostics[0]!.message).toContain("stage 'q' connects a screen");
+  });
+
   it('reports a pentode section with no screen, and model parameters unknown or missing', () => {
     const r = load(`${HEADER}
 type LP koren-pentode { mu = 30, ex = 1.35, kg1 = 900, kg2 = 4000, kp = 40, kvb = 20 }

@@ -41,6 +41,8 @@ describe('the README', () => {
     // Commands over several lines are read whole (the pulse example is one).
     expect(ts.some((t) => t.command.startsWith('pulse') && t.command.includes('--fastest'))).toBe(true);
     for (const t of ts) {
+      // Every quoted command shows something of what it prints: an empty block checks nothing.
+      expect(t.shown.length, `the README quotes 'tubemargin ${t.command}' with no output`).toBeGreaterThan(0);
       const r = await run(words(t.command));
       const printed = (r.out + r.err).split('\n');
       let at = 0;
