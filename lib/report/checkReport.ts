@@ -105,7 +105,7 @@ export interface ReportJson {
 }
 
 /** What each figure of the report means; printed under the text report and carried in the JSON. */
-export const DEFINITIONS: Record<string, string> = {
+export const DEFINITIONS = {
   worstHigh: 'lowest high level over every tolerance, spread and ageing corner: all drivers cut off, their inputs at the highest low level, every grid the net feeds clamped',
   worstLow: 'highest low level: one driver conducting with its input at the lowest high level and the weakest tube, the others cut off',
   nmHigh: 'NM_H = worst high − the highest VIH of the inputs it feeds (VIH, VIL: unity-gain points of the receiving stage, Hodges and Jackson)',
@@ -115,7 +115,25 @@ export const DEFINITIONS: Record<string, string> = {
   headroom: `how many more standard loads (the design's most common input divider) the net can feed before a noise margin drops below the required one (counted up to ${MAX_EXTRA_LOADS})`,
   snm: 'latch static noise margin: the side of the largest square inside the smaller lobe of the butterfly of its two transfer curves (Seevinck, List, Lohstroh 1987), at the worst pair of corners',
   triggerMargin: 'a set or reset input at its weakest asserted level, minus the level at which the old state stops existing',
+} satisfies Record<string, string>;
+
+/**
+ * The column each definition explains, headed as the text report's tables head it (the
+ * JSON carries the definitions under their own keys), and as the HTML page heads it.
+ */
+export const DEFINITION_HEADINGS: Record<keyof typeof DEFINITIONS, { text: string; html: string }> = {
+  worstHigh: { text: 'high', html: 'worst high' },
+  worstLow: { text: 'low', html: 'worst low' },
+  nmHigh: { text: 'NM_H', html: 'NM_H' },
+  nmLow: { text: 'NM_L', html: 'NM_L' },
+  cutoffMargin: { text: 'cutoff', html: 'cutoff' },
+  driveMargin: { text: 'drive margin (in --json)', html: 'drive' },
+  headroom: { text: 'more', html: 'more loads' },
+  snm: { text: 'SNM', html: 'SNM (worst)' },
+  triggerMargin: { text: 'trigger', html: 'set and reset inputs' },
 };
+
+export const definitionKeys = () => Object.keys(DEFINITIONS) as (keyof typeof DEFINITIONS)[];
 
 /** A net's level in one state, or null with the reason it has none. */
 function level<K extends 'high' | 'low'>(key: K, n: NetCheck): Record<K, { nominal: number; worst: number } | null> & Partial<Record<`${K}Why`, string>> {
@@ -552,7 +570,7 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
   if (shrunk) out.push('', ...renderShrink(shrunk));
   out.push('');
   out.push('What the figures mean');
-  for (const [k, text] of Object.entries(DEFINITIONS)) append(out, indented(`${k}: ${text}`, '  ', '    '));
+  for (const k of definitionKeys()) append(out, indented(`${DEFINITION_HEADINGS[k].text}: ${DEFINITIONS[k]}`, '  ', '    '));
   const cautions = safetyCautions(design);
   if (cautions.length > 0) out.push('', ...cautions.flatMap((c) => wrap(c, REPORT_COLUMNS)));
   return out.join('\n') + '\n';

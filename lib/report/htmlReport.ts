@@ -7,7 +7,7 @@ import type { Design } from '../design/model.js';
 import { findLibraryEntry } from '../models/library.js';
 import { logicThreshold, type OperatingPoint } from '../solve/operatingPoint.js';
 import { butterflyChart, histogramChart, marginChart, marginRows, MAX_WAVE_ROWS, PALETTE, svgOf, sweepChart, transferChart, waveformChart } from './charts.js';
-import { DEFINITIONS } from './checkReport.js';
+import { DEFINITIONS, DEFINITION_HEADINGS, definitionKeys } from './checkReport.js';
 import { formatSI } from './format.js';
 import { CAUTION_PREFIX, safetyCautions, type AppliedLevel } from './safety.js';
 import type { Diagnostic } from '../source/diagnostic.js';
@@ -202,7 +202,7 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
 
   parts.push(netsTable);
   parts.push(`<section id="facts"><h2>Design facts</h2>${facts(design, input.nominal)}</section>`);
-  parts.push(`<section id="definitions"><h2>What the figures mean</h2><dl>${Object.entries(DEFINITIONS).map(([k, d]) => `<dt>${e(k)}</dt><dd>${e(d)}</dd>`).join('')}</dl></section>`);
+  parts.push(`<section id="definitions"><h2>What the figures mean</h2><dl>${definitionKeys().map((k) => `<dt>${e(DEFINITION_HEADINGS[k].html)}</dt><dd>${e(DEFINITIONS[k])}</dd>`).join('')}</dl></section>`);
 
   return `${REPORT_MARK}
 <html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1"><title>${escapeHtml(title)} — tubemargin</title><style>${STYLE}</style></head>

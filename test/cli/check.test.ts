@@ -126,6 +126,19 @@ stage nq { load 39 k to bp; screen bp; input q series 220 k pulldown 220 k to bi
     expect(text).toMatch(/outside its trusted range: 6AU6 is trusted/);
     expect(text).not.toContain('6AU6 (6AU6)');
   });
+
+  it('explains the figures under the names the tables head them with, not the JSON keys', async () => {
+    const r = await run(['check', 'nets/irrigation-sequencer.tube']);
+    const glossary = r.out.slice(r.out.indexOf('What the figures mean'));
+    const terms = glossary.split('\n').slice(1).filter((l) => /^ {2}\S/.test(l)).map((l) => l.slice(2, l.indexOf(': ')));
+    expect(terms).toEqual(['high', 'low', 'NM_H', 'NM_L', 'cutoff', 'drive margin (in --json)', 'more', 'SNM', 'trigger']);
+    const headings = r.out.split('\n').filter((l) => /^ {2}(net|latch) /.test(l)).join(' ').split(/\s+/);
+    for (const t of terms.filter((x) => !x.includes('--json'))) expect(headings, t).toContain(t);
+    expect(glossary).not.toMatch(/worstHigh|headroom|nmHigh/);
+    // The JSON keeps its own keys.
+    const j = JSON.parse((await run(['check', 'nets/irrigation-sequencer.tube', '--json'])).out);
+    expect(Object.keys(j.definitions)).toContain('worstHigh');
+  });
 });
 
 describe('tubemargin check --samples', () => {
