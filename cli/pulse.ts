@@ -14,7 +14,7 @@ import {
 } from '../lib/index.js';
 import { FARADS, SECONDS } from '../lib/netlist/units.js';
 import { formatSI, table, wrap } from '../lib/report/format.js';
-import { renderPulseReport } from '../lib/report/htmlReport.js';
+import { pulseVerdict, renderPulseReport } from '../lib/report/htmlReport.js';
 import { safetyCautions } from '../lib/report/safety.js';
 import { figure } from '../lib/report/figure.js';
 import { withProgress } from './progress.js';
@@ -175,7 +175,7 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
     io.stdout(JSON.stringify({ ...pulseJson(r, inputs, stop.value, misses, limit, recorded), cautions }, null, 1) + '\n');
     return ok ? EXIT.ok : EXIT.failed;
   }
-  io.stdout(pulseText(file, design.title, r, inputs, stop.value, misses, limit).join('\n') + '\n');
+  io.stdout(pulseText(file, design.title, r, inputs, stop.value, expected, misses, limit).join('\n') + '\n');
   for (const c of cautions) io.stdout(wrap(c, 80, '').join('\n') + '\n');
   return ok ? EXIT.ok : EXIT.failed;
 }
@@ -222,11 +222,12 @@ function limitJson(l: ClockLimitResult) {
   };
 }
 
-function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string, Waveform>, stop: number, misses: { net: string; high: boolean }[], limit: ClockLimitResult | undefined): string[] {
+function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string, Waveform>, stop: number, expected: { net: string; high: boolean }[], misses: { net: string; high: boolean }[], limit: ClockLimitResult | undefined): string[] {
   const out = [`${title || '(untitled design)'} — ${file}`];
+  // The verdict first, as check gives it and as the exit code says it.
+  append(out, wrap(pulseVerdict({ run: r, limit, expected, missed: misses }).text, 80));
   append(out, wrap(`Simulated ${si(stop, 's')} in ${r.run.accepted} steps (${r.run.rejected} taken again): trapezoidal rule, steps by truncation error.`, 80, ''));
   for (const [name, w] of inputs) append(out, wrap(`${name} = ${w.text}`, 78, '  ').map((line) => `  ${line}`));
-  if (!r.run.ok) append(out, wrap(`The run stopped early: ${r.run.diagnostics.find((d) => d.severity === 'error')?.message ?? 'no reason given'}.`, 80, ''));
   out.push('Watched nets, in the order of the state column:');
   r.nets.forEach((n, i) => out.push(`  ${String(i + 1).padStart(2)}. ${n}`));
   out.push('');

@@ -1,4 +1,4 @@
-import type { Design } from '../design/model.js';
+import type { Design, Switch } from '../design/model.js';
 import { buildStageGraph, type StageGraph } from '../graph/stageGraph.js';
 import { error, type Diagnostic } from '../source/diagnostic.js';
 import { simulate, type TransientOptions, type TransientResult } from '../solve/transient.js';
@@ -47,7 +47,11 @@ export function pulseDesign(design: Design, options: PulseOptions): PulseRun | {
   const diagnostics: Diagnostic[] = [];
   const drives = new Set(design.parts.filter((p) => p.type === 'drive').map((p) => p.name));
   for (const name of options.inputs.keys()) {
-    if (!drives.has(name)) diagnostics.push(error('unknown-part', `'${name}' is no drive of the design: a waveform drives a 'drive' input (${[...drives].join(', ') || 'the design has none'})`, undefined));
+    if (drives.has(name)) continue;
+    const contact = design.parts.find((p): p is Switch => p.name === name && p.type === 'switch');
+    // A contact keeps its position through a run in time; a drive on its net stands in for it.
+    const notes = contact ? [`'${name}' is a ${contact.momentary ? 'button' : 'switch'}: give its net a 'drive' at its idle level (through a source resistance) and move that; or operate it with --after`] : [];
+    diagnostics.push(error('unknown-part', `'${name}' is no drive of the design: a waveform drives a 'drive' input (${[...drives].join(', ') || 'the design has none'})`, undefined, notes));
   }
   const logic = new Set(graph.nets.map((n) => n.name));
   const nets = options.nets ?? watchedNets(graph);

@@ -202,6 +202,12 @@ describe('tubemargin pulse', () => {
     for (const line of r.out.split('\n')) expect(line.length).toBeLessThanOrEqual(80);
     const ok = await run(['pulse', 'b.tube', '--for', '50us', '--input', clock, '--expect', 'a=1'], { 'b.tube': binary('220 pF') });
     expect(ok.code).toBe(0);
+    // The verdict leads the terminal report, as check's does, and agrees with the exit code.
+    expect(r.out.split('\n')[1]).toMatch(/^FAIL: 1 of 1 state asked for at the end is not met \(a should be 1\)/);
+    expect(ok.out.split('\n')[1]).toMatch(/^PASS: the run finished; every state asked for at the end holds/);
+    const asked = await run(['pulse', 'b.tube', '--for', '50us', '--input', clock], { 'b.tube': binary('220 pF') });
+    expect(asked.code).toBe(0);
+    expect(asked.out.split('\n')[1]).toMatch(/^DONE: the run finished\. Nothing was asked of it/);
   });
 
   it('writes waveforms as CSV and JSON, and never overwrites a file it did not write', async () => {
@@ -272,5 +278,11 @@ describe('tubemargin pulse', () => {
     expect(nope.code).toBe(2);
     expect(nope.err).toMatch(/'NOPE' is no drive/);
     expect(nope.err).not.toMatch(/the design has errors/);
+  });
+
+  it('says how to move a button in time when a waveform names one: a drive on its net stands in for it', async () => {
+    const r = await run(['pulse', 'nets/crate-tally.tube', '--for', '10us', '--input', 'RESET=pulse(0V, 150V, at=1us, width=2us)']);
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/'RESET' is a button: give its net a 'drive'/);
   });
 });
