@@ -28,13 +28,16 @@ const COMMAND_EXAMPLES: Record<string, { line: string[]; what: string }[]> = {
   ],
   check: [
     { line: ['tubemargin check nets/nor-adder.tube'], what: 'worst-case levels and margins: pass, fail with a witness, or undecided' },
-    { line: ['tubemargin check nets/crate-tally.tube --age end-of-life --margin 10'], what: 'with every tube at the end of its life, 10 V of margin required' },
+    { line: ['tubemargin check nets/crate-tally.tube --age end-of-life --margin 10'], what: 'tubes at the end of their life, 10 V of margin asked: it fails (exit 1)' },
     { line: ['tubemargin check nets/nor-adder.tube --samples 10000 --seed 7'], what: 'adds a Monte Carlo run: yield and margin distributions' },
   ],
-  sweep: [{ line: ['tubemargin sweep nets/nor-adder.tube --rail bp=18:30:1 --rail bias=-16:-6:1'], what: 'the supply window: pass or fail over a grid of two rails' }],
+  sweep: [
+    { line: ['tubemargin sweep nets/crate-tally.tube --rail hv=130:170:10'], what: 'the supply window: a worst-case check at five plate supplies' },
+    { line: ['tubemargin sweep nets/nor-adder.tube --rail bp=18:30:1 --rail bias=-16:-6:1'], what: 'over a grid of two rails; the adder fails at its nominal supply (exit 1)' },
+  ],
   report: [{ line: ['tubemargin report nets/crate-tally.tube -o crate.html --samples 2000'], what: 'one HTML page with the verdict, nets, plots and yield' }],
-  fit: [{ line: ['tubemargin fit readings.csv --kind koren-triode -o mytubes.tube'], what: 'a tube type fitted to your own bench readings' }],
-  tune: [{ line: ['tubemargin tune nets/nor-adder.tube --stage y2 --series E24'], what: "the E24 resistors that give stage y2's nets the most margin" }],
+  fit: [{ line: ['tubemargin fit docs/examples/bench-readings.csv --kind koren-triode', '-o mytubes.tube'], what: 'a tube type fitted to bench readings (your own, in the same columns)' }],
+  tune: [{ line: ['tubemargin tune nets/nor-adder.tube --stage y2 --series E24'], what: 'E24 resistors for stage y2, most margin first; none passes (exit 1)' }],
   step: [
     {
       line: ['tubemargin step nets/irrigation-sequencer.tube', '--sequence "pulse STOP; pulse bed[1]/START; expect bed[1]/on=1"'],
@@ -43,7 +46,7 @@ const COMMAND_EXAMPLES: Record<string, { line: string[]; what: string }[]> = {
   ],
   pulse: [
     {
-      line: ['tubemargin pulse nets/crate-tally.tube --after "pulse RESET" --for 300us', '--input "LINE_A=clock(150V, 0V, period=100us, width=25%)"', '--input "LINE_B=clock(150V, 0V, period=100us, width=25%, delay=50%)"', '--fastest'],
+      line: ['tubemargin pulse nets/crate-tally.tube --after "pulse RESET" --for 300us', '--input "LINE_A=clock(150V, 0V, period=100us, width=25%)"', '--input "LINE_B=clock(150V, 0V, period=100us, width=25%, delay=50%)"', '--nets on[0],on[1],on[2],on[3] --fastest'],
       what: 'two clock phases in time from reset, then the fastest clock that counts',
     },
   ],
@@ -53,13 +56,31 @@ const COMMAND_EXAMPLES: Record<string, { line: string[]; what: string }[]> = {
   ],
 };
 
+/**
+ * A help text for commander, which wraps each line at the terminal's width: the lines of a
+ * paragraph are joined so that it wraps as one (hand-wrapped lines re-wrapped at 80 broke
+ * mid-sentence), while an indented line (an item of a list) stays a line of its own.
+ */
+export function reflow(text: string): string {
+  const out: string[] = [];
+  let joinable = false;
+  for (const line of text.split('\n')) {
+    const item = line === '' || /^\s/.test(line);
+    if (!item && joinable) out[out.length - 1] += ` ${line}`;
+    else out.push(line);
+    joinable = !item;
+  }
+  return out.join('\n');
+}
+
 /** Examples as help text: each command line (continued with a backslash) and, indented below it, what it shows. */
 function examplesText(list: readonly { line: string[]; what: string }[]): string {
   const one = ({ line, what }: { line: string[]; what: string }) => `  ${line.join(' \\\n      ')}\n      ${what}`;
   return `\nExamples:\n${list.map(one).join('\n')}`;
 }
 
-const EXAMPLES = `${examplesText(Object.values(COMMAND_EXAMPLES).map((list) => list[0]!))}
+const EXAMPLES = `${examplesText([COMMAND_EXAMPLES.check![0]!, COMMAND_EXAMPLES.solve![0]!, COMMAND_EXAMPLES.show![0]!])}
+Every command's --help has examples of its own.
 
 Exit codes: 0 success, 1 a check failed, 2 bad input (diagnostics say where).`;
 
@@ -95,7 +116,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
   program
     .command('show')
     .summary(SHOW_SUMMARY)
-    .description(SHOW_SUMMARY + '\n' + SHOW_HELP)
+    .description(SHOW_SUMMARY + '\n' + reflow(SHOW_HELP))
     .argument('<file>', 'design file (.tube text or .json)')
     .option('--json', 'print the flat design as tubemargin.design/1 JSON')
     .action((file: string, opts: { json?: boolean }) => {
@@ -107,7 +128,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
   program
     .command('solve')
     .summary(SOLVE_SUMMARY)
-    .description(SOLVE_SUMMARY + '\n' + SOLVE_HELP)
+    .description(SOLVE_SUMMARY + '\n' + reflow(SOLVE_HELP))
     .argument('<file>', 'design file (.tube text or .json)')
     .option('--hint <NET=1|0>', 'start NET high (1) or low (0); repeat for more nets', collect)
     .option('--close <SWITCH>', 'close a switch or press a button for this solve; repeatable', collect)
@@ -118,7 +139,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
       code = runSolve(file, { ...program.opts(), ...opts }, io);
     });
 
-  withCheckOptions(program.command('check').summary(CHECK_SUMMARY).description(CHECK_SUMMARY + '\n' + CHECK_HELP).argument('<file>', 'design file (.tube text or .json)'))
+  withCheckOptions(program.command('check').summary(CHECK_SUMMARY).description(CHECK_SUMMARY + '\n' + reflow(CHECK_HELP)).argument('<file>', 'design file (.tube text or .json)'))
     .option('--shrink', 'find a failing set of part values and shrink it to the smallest')
     .option('--json', 'print the report as tubemargin.report/1 JSON')
     .action(async (file: string, opts: CheckCliOptions) => {
@@ -128,7 +149,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
   program
     .command('sweep')
     .summary(SWEEP_SUMMARY)
-    .description(SWEEP_SUMMARY + '\n' + SWEEP_HELP)
+    .description(SWEEP_SUMMARY + '\n' + reflow(SWEEP_HELP))
     .argument('<file>', 'design file (.tube text or .json)')
     .option('--rail <NAME=FROM:TO:STEP>', 'a rail to sweep, in volts; give one or two', collect)
     .option('--heater <F>', 'heater voltage as a fraction of nominal (default 1)')
@@ -139,7 +160,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
       code = await runSweep(file, { ...program.opts(), ...opts }, io);
     });
 
-  withCheckOptions(program.command('report').summary(REPORT_SUMMARY).description(REPORT_SUMMARY + '\n' + REPORT_HELP).argument('<file>', 'design file (.tube text or .json)'))
+  withCheckOptions(program.command('report').summary(REPORT_SUMMARY).description(REPORT_SUMMARY + '\n' + reflow(REPORT_HELP)).argument('<file>', 'design file (.tube text or .json)'))
     .option('-o, --output <FILE>', 'where to write the HTML report')
     .option('--rail <NAME=FROM:TO:STEP>', 'add a supply map over this rail; give one or two', collect)
     .option('--heater <F>', 'heater voltage for the supply map, as a fraction of nominal')
@@ -150,7 +171,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
   program
     .command('fit')
     .summary(FIT_SUMMARY)
-    .description(FIT_SUMMARY + '\n' + FIT_HELP)
+    .description(FIT_SUMMARY + '\n' + reflow(FIT_HELP))
     .argument('<readings>', 'bench readings, CSV')
     .option('--kind <KIND>', 'model kind: koren-triode, koren-pentode, child-langmuir')
     .option('--name <NAME>', 'name of the type written (default BENCH)')
@@ -163,7 +184,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
   program
     .command('tune')
     .summary(TUNE_SUMMARY)
-    .description(TUNE_SUMMARY + '\n' + TUNE_HELP)
+    .description(TUNE_SUMMARY + '\n' + reflow(TUNE_HELP))
     .argument('<file>', 'design file (.tube text or .json)')
     .option('--stage <NET>', 'the stage (its output net) whose resistors to choose')
     .option('--series <E>', 'preferred-value series: E6, E12, E24, E96 (default E12)')
@@ -177,7 +198,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
   program
     .command('step')
     .summary(STEP_SUMMARY)
-    .description(STEP_SUMMARY + '\n' + STEP_HELP)
+    .description(STEP_SUMMARY + '\n' + reflow(STEP_HELP))
     .argument('<file>', 'design file (.tube text or .json)')
     .option('--sequence <FILE|TEXT>', 'the input sequence: a file, or the actions themselves')
     .option('--nets <A,B,…>', 'the nets to watch (default: every logic net)')
@@ -190,7 +211,7 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
   program
     .command('pulse')
     .summary(PULSE_SUMMARY)
-    .description(PULSE_SUMMARY + '\n' + PULSE_HELP)
+    .description(PULSE_SUMMARY + '\n' + reflow(PULSE_HELP))
     .argument('<file>', 'design file (.tube text or .json)')
     .option('--input <DRIVE=WAVEFORM>', "a drive's waveform; repeat for more inputs", collect)
     .option('--for <TIME>', 'how long to simulate: 300us, 2ms')

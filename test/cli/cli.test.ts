@@ -55,7 +55,17 @@ describe('tubemargin on the command line', () => {
     expect(commands).toEqual(['show', 'solve', 'check', 'sweep', 'report', 'fit', 'tune', 'step', 'pulse', 'tubes']);
     for (const page of [top, ...(await Promise.all(commands.map((c) => run([c, '--help']))))]) {
       for (const line of page.out.split('\n')) expect(line.length, line).toBeLessThanOrEqual(80);
+      // No line breaks early: where a paragraph goes on, the next word would not have fitted.
+      // (Hand-wrapped text re-wrapped at 80 broke mid-sentence: "expands its" / "blocks…".)
+      const text = page.out.slice(0, page.out.search(/\n(Arguments|Options|Commands):/));
+      const lines = text.split('\n');
+      lines.forEach((line, i) => {
+        const next = lines[i + 1];
+        if (line === '' || next === undefined || next === '' || /^\s/.test(next) || /^\s/.test(line)) return;
+        expect(line.length + 1 + next.split(' ')[0]!.length, `broke early: '${line}' / '${next}'`).toBeGreaterThan(80);
+      });
     }
+    expect(top.out.slice(top.out.indexOf('Examples:')).match(/^ {2}tubemargin /gm)?.length).toBeLessThanOrEqual(3);
     for (const command of commands) {
       const page = (await run([command, '--help'])).out;
       const examples = page.slice(page.indexOf('Examples:'));
