@@ -1,4 +1,4 @@
-import { AGEING_SCENARIOS, findScenario, hasErrors, loadDesign, type AgeingScenario, type Design, type Diagnostic, type StateHint } from '../lib/index.js';
+import { AGEING_SCENARIOS, buildStageGraph, closestName, designNets, findScenario, hasErrors, loadDesign, type AgeingScenario, type Design, type Diagnostic, type StateHint } from '../lib/index.js';
 import { formatDiagnostics } from './diagnostics.js';
 import { fileLoader, type CliIo } from './io.js';
 import { chalkFor } from './style.js';
@@ -55,6 +55,31 @@ export function readStates(words: readonly string[], option: string, io: CliIo):
     states.push({ net: m[1]!, high: m[2] === '1' });
   }
   return states;
+}
+
+/**
+ * Checks `--hint`s against the design: each must name a net of a latch or a larger loop,
+ * whose state is what a hint picks. A hint elsewhere (an input, a gate's output, a grid)
+ * would only be pinned for the start and released, and while pinned it can set or clear a
+ * latch it feeds, so it is refused. Returns the exit code of the usage error, or undefined.
+ */
+export function checkHints(design: Design, hints: readonly StateHint[], io: CliIo): number | undefined {
+  if (hints.length === 0) return undefined;
+  const nets = new Set(designNets(design));
+  const graph = buildStageGraph(design);
+  const looped = new Set(graph.loops.flatMap((l) => l.nets));
+  for (const h of hints) {
+    if (!nets.has(h.net)) {
+      const near = closestName(h.net, [...looped]);
+      return usageError(io, `--hint names unknown net '${h.net}'${near ? `; did you mean '${near}'?` : ''} [unknown-net]`);
+    }
+    if (!looped.has(h.net)) {
+      const latches = graph.loops.filter((l) => l.kind === 'latch').map((l) => l.nets.join(' ↔ '));
+      const which = latches.length === 0 ? 'the design has no latch' : `its latches: ${latches.slice(0, 4).join(', ')}${latches.length > 4 ? ', …' : ''}`;
+      return usageError(io, `--hint names '${h.net}', which is in no latch or loop: a hint picks the state a latch starts in (${which})`);
+    }
+  }
+  return undefined;
 }
 
 /** Prints a usage error (a bad option value) to stderr; returns the bad-input exit code. */

@@ -19,7 +19,7 @@ import { safetyCautions } from '../lib/report/safety.js';
 import { figure } from '../lib/report/figure.js';
 import { withProgress } from './progress.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
+import { EXIT, checkHints, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 import { refuseToOverwrite, writeReport } from './report.js';
 import { readSequence } from './step.js';
 import { append } from '../lib/lists.js';
@@ -92,6 +92,8 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
   const { design } = loaded;
+  const badHint = checkHints(design, hints, io);
+  if (badHint !== undefined) return badHint;
   const probes = options.probe?.split(',').map((n) => n.trim()).filter(Boolean) ?? [];
   const allNets = new Set(designNets(design));
   for (const p of probes) if (!allNets.has(p)) return usageError(io, `--probe names '${p}', which is no net of the design ('tubemargin show' lists them)`);

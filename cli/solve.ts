@@ -3,7 +3,7 @@ import { renderSolve, solveToJson } from '../lib/report/solveReport.js';
 import { wrap } from '../lib/report/format.js';
 import { REPORT_COLUMNS } from '../lib/report/showText.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
+import { EXIT, checkHints, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 import { readWitness } from './witness.js';
 
 export const SOLVE_SUMMARY = 'solve the DC operating point: every node, section and resistor';
@@ -42,10 +42,8 @@ export function runSolve(file: string, options: SolveCliOptions, io: CliIo): num
     if ('diagnostic' in found) return bad(`${found.diagnostic.message}${found.diagnostic.notes.length ? `; ${found.diagnostic.notes.join('; ')}` : ''} [unknown-part]`);
     close.add(name);
   }
-  const nets = new Set(designNets(design));
-  for (const h of hints) {
-    if (!nets.has(h.net)) return bad(`--hint names unknown net '${h.net}' [unknown-net]`);
-  }
+  const badHint = checkHints(design, hints, io);
+  if (badHint !== undefined) return badHint;
   if (options.at !== undefined) {
     if (hints.length > 0 || close.size > 0) return bad('--at sets the contacts and latch states itself: leave out --hint and --close');
     const read = readWitness(options.at, options.atNet, io);

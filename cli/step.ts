@@ -1,7 +1,7 @@
 import { checkMargins, parseSequence, stepDesign, type SequenceAction } from '../lib/index.js';
 import { table, wrap } from '../lib/report/format.js';
 import type { CliIo } from './io.js';
-import { EXIT, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
+import { EXIT, checkHints, loadForCommand, readStates, report, usageError, type GlobalOptions } from './load.js';
 import { append } from '../lib/lists.js';
 import { safetyCautions } from '../lib/report/safety.js';
 
@@ -60,6 +60,8 @@ export function runStep(file: string, options: StepCliOptions, io: CliIo): numbe
   if (typeof hints === 'number') return hints;
   const loaded = loadForCommand(file, io, options);
   if (!loaded) return EXIT.badInput;
+  const badHint = checkHints(loaded.design, hints, io);
+  if (badHint !== undefined) return badHint;
   const sequence = readSequence(options.sequence, '--sequence', loaded.sources, io);
   if (typeof sequence === 'number') return sequence;
   const { actions, sources } = sequence;

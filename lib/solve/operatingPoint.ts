@@ -64,6 +64,8 @@ export interface HintOutcome {
   assumed: boolean;
   volts: number;
   held: boolean;
+  /** The latch this hint starts has no states at all (`latch-no-state`): nothing was held. */
+  stateless?: true;
 }
 
 /** A latch whose inputs hold both of its nets at one level: a stable state, not the metastable point. */
@@ -325,6 +327,11 @@ export function solveOperatingPoint(design: Design, options: SolveOptions = {}):
       else {
         // Nothing but each other feeds the pair, so nothing forces it: a pair that settles
         // with both nets at one level from a start in one of its states has no such state.
+        for (const o of outcomes) {
+          if (o.net !== a && o.net !== b) continue;
+          o.held = false;
+          o.stateless = true;
+        }
         diagnostics.push(
           warning('latch-no-state', `latch ${a} ↔ ${b} holds no state: both nets settle ${level} (${va.toFixed(2)} V, ${vb.toFixed(2)} V), a stable point of the pair with ${high ? 'both sides cut off' : 'both sides conducting'}, and nothing but each other feeds them`, undefined),
         );

@@ -59,7 +59,13 @@ describe('tubemargin solve', () => {
     expect(r.out).not.toContain('undecided');
     const plain = await run(['solve', 'docs/examples/grounded-latch.tube', '--json']);
     expect(plain.code).toBe(1);
-    expect(JSON.parse(plain.out).warnings.map((w: { code: string }) => w.code)).toContain('latch-no-state');
+    const j = JSON.parse(plain.out);
+    expect(j.warnings.map((w: { code: string }) => w.code)).toContain('latch-no-state');
+    // The tool's own start is not "held" in a latch that has no states.
+    expect(j.hints).toEqual([expect.objectContaining({ net: 'nq', assumed: true, held: false })]);
+    const text = await run(['solve', 'docs/examples/grounded-latch.tube']);
+    expect(text.out).toContain('nq=0 (chosen by the tool): the latch has no states here');
+    expect(text.out).not.toMatch(/held at/);
   });
 
   it('says a latch held both-low by its set and clear at once is a stable forced state, and exits 0', async () => {
@@ -85,6 +91,19 @@ describe('tubemargin solve', () => {
     const own = await run(['solve', 'nets/irrigation-sequencer.tube', '--close', 'STOP', '--hint', 'bed[1]/on=1']);
     expect(own.code).toBe(1);
     expect(own.out).toContain('bed[1]/on=1: NOT HELD');
+  });
+
+  it('refuses a hint on a net in no latch or loop (exit 2): pinned for the start, an input would set or clear the latches it feeds', async () => {
+    for (const net of ['stop', 'valve[1]', 'bed[1]/mem/q.g1']) {
+      const r = await run(['solve', 'nets/irrigation-sequencer.tube', '--hint', `${net}=1`]);
+      expect(r.code, net).toBe(2);
+      expect(r.err, net).toContain(`--hint names '${net}', which is in no latch or loop`);
+      expect(r.out, net).toBe('');
+    }
+    // Step and pulse take hints too, and refuse the same.
+    const step = await run(['step', 'nets/irrigation-sequencer.tube', '--hint', 'stop=1', '--sequence', 'press STOP']);
+    expect(step.code).toBe(2);
+    expect(step.err).toContain('in no latch or loop');
   });
 
   it('exits 2 on a malformed hint, an unknown net or an unknown switch, with a suggestion', async () => {
