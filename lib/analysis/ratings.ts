@@ -38,7 +38,12 @@ export interface HeaterBudget {
   envelopes: number;
   volts: number;
   amps: number;
-  /** Heaters in series across each rail above the heater voltage: how many a string, how many strings, and the dropping resistor each string needs. */
+  /**
+   * Heaters in series across each rail above the heater voltage, every envelope in exactly
+   * one string: as few strings as the rail allows, as even as can be, so a rail has one
+   * entry (every string alike) or two (strings of k and of k − 1 heaters), each with how
+   * many strings of that length and the dropping resistor each of them needs.
+   */
   strings: { rail: string; perString: number; strings: number; droppingOhms: number; droppingWatts: number }[];
 }
 
@@ -156,10 +161,16 @@ export function ratingsOf(design: Design, chain: LevelChain, op: OperatingPoint 
     const { heaterVolts: hv, heaterAmps: ha } = entry.ratings;
     const strings = design.rails
       .filter((r) => Math.abs(r.volts) >= hv)
-      .map((r) => {
-        const perString = Math.min(envelopes, Math.floor(Math.abs(r.volts) / hv));
-        const drop = Math.abs(r.volts) - perString * hv;
-        return { rail: r.name, perString, strings: Math.ceil(envelopes / perString), droppingOhms: drop / ha, droppingWatts: drop * ha };
+      .flatMap((r) => {
+        const most = Math.min(envelopes, Math.floor(Math.abs(r.volts) / hv));
+        const count = Math.ceil(envelopes / most);
+        const short = Math.floor(envelopes / count);
+        const long = envelopes - short * count;
+        const group = (strings: number, perString: number) => {
+          const drop = Math.abs(r.volts) - perString * hv;
+          return { rail: r.name, perString, strings, droppingOhms: drop / ha, droppingWatts: drop * ha };
+        };
+        return [...(long > 0 ? [group(long, short + 1)] : []), ...(count - long > 0 ? [group(count - long, short)] : [])];
       });
     heaters.push({ model: m.name, designation: entry.designation, envelopes, volts: hv, amps: ha, strings });
   }

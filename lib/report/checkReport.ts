@@ -7,7 +7,7 @@ import { MAX_EXTRA_LOADS } from '../analysis/fanoutHeadroom.js';
 import { CUTOFF_FRACTION } from '../analysis/gridMargins.js';
 import type { MonteCarloResult } from '../analysis/monteCarlo.js';
 import type { ShrinkResult } from '../analysis/shrink.js';
-import { DERATING, type Ratings } from '../analysis/ratings.js';
+import { DERATING, type HeaterBudget, type Ratings } from '../analysis/ratings.js';
 import type { Design } from '../design/model.js';
 import { cutList, formatSI, table, wrap } from './format.js';
 import { firstOfEach } from '../lists.js';
@@ -367,7 +367,9 @@ function renderRatings(g: Ratings): string[] {
   if (g.rails.some((r) => !Number.isFinite(r.amps))) append(out, indented('Rail currents: not measured, because the nominal operating point did not converge (run solve to see where).', '  ', '    '));
   else if (g.rails.length > 0) append(out, indented(`Rails at the nominal operating point: ${g.rails.map((r) => `${r.rail} ${formatSI(r.amps, 'A')} (${formatSI(Math.abs(r.watts), 'W')})`).join(', ')}.`, '  ', '    '));
   for (const h of g.heaters) {
-    const strings = h.strings.map((s) => `${s.strings} ${s.strings === 1 ? 'string' : 'strings'} of ${s.perString} across ${s.rail} with ${formatSI(s.droppingOhms, 'Ω')} (${formatSI(s.droppingWatts, 'W')}) each`).join('; or ');
+    const group = (s: HeaterBudget['strings'][number]) => `${s.strings} ${s.strings === 1 ? 'string' : 'strings'} of ${s.perString} with ${formatSI(s.droppingOhms, 'Ω')} (${formatSI(s.droppingWatts, 'W')}) each`;
+    const rails = [...new Set(h.strings.map((s) => s.rail))];
+    const strings = rails.map((rail) => `${h.strings.filter((s) => s.rail === rail).map(group).join(' and ')} across ${rail}`).join('; or ');
     append(out, indented(`Heaters, ${typeLabel(h.model, h.designation)}: ${h.envelopes} envelopes at ${h.volts} V, ${formatSI(h.amps, 'A')} each, ${formatSI(h.envelopes * h.amps, 'A')} in parallel${strings ? `; or ${strings}` : ''}.`, '  ', '    '));
   }
   for (const f of g.followers) append(out, indented(`${f.section}, a cathode follower: ${v(f.volts)} V heater to cathode${f.rating === undefined ? '' : ` against ${f.rating} V`}${f.ok ? '' : ': OVER'}`, '  ', '    '));

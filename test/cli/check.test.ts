@@ -120,11 +120,30 @@ stage nq { load 39 k to bp; screen bp; input q series 220 k pulldown 220 k to bi
     expect(text).not.toMatch(/new: new tubes:/);
     // Two envelopes: one string of two across bp; the type is the library's own, named once.
     expect(text).toMatch(/Heaters, 6AU6: 2 envelopes/);
-    expect(text).toMatch(/or 1 string of 2 across bp/);
+    expect(text).toMatch(/or 1 string of 2 with [^;]* across bp/);
     expect(text).not.toMatch(/\b1 strings\b/);
     // The trusted-range note names the type once too (one helper, typeLabel, for both).
     expect(text).toMatch(/outside its trusted range: 6AU6 is trusted/);
     expect(text).not.toContain('6AU6 (6AU6)');
+  });
+
+  it('puts every heater in exactly one series string, the strings as even as the rail allows (common practice, no source)', async () => {
+    // 20 envelopes of 6.3 V across 24 V: at most 3 a string, so 7 strings: 6 of 3 and 1 of 2,
+    // never '7 strings of 3', which would need 21 heaters.
+    const j = JSON.parse((await run(['check', 'nets/irrigation-sequencer.tube', '--json'])).out);
+    for (const h of j.ratings.heaters as { envelopes: number; volts: number; strings: { rail: string; perString: number; strings: number; droppingOhms: number }[] }[]) {
+      for (const rail of new Set(h.strings.map((s) => s.rail))) {
+        const groups = h.strings.filter((s) => s.rail === rail);
+        expect(groups.reduce((n, s) => n + s.strings * s.perString, 0), rail).toBe(h.envelopes);
+        const lengths = groups.map((s) => s.perString);
+        expect(Math.max(...lengths) - Math.min(...lengths), rail).toBeLessThanOrEqual(1);
+        for (const s of groups) expect(s.droppingOhms, rail).toBeGreaterThanOrEqual(0);
+      }
+    }
+    const pentodes = j.ratings.heaters.find((h: { designation: string }) => h.designation === '6AU6');
+    expect(pentodes.strings.filter((s: { rail: string }) => s.rail === 'bp').map((s: { strings: number; perString: number }) => [s.strings, s.perString])).toEqual([[6, 3], [1, 2]]);
+    const text = (await run(['check', 'nets/irrigation-sequencer.tube'])).out.replace(/\n +/g, ' ');
+    expect(text).toMatch(/6 strings of 3 with 17 Ω \(1\.53 W\) each and 1 string of 2 with 38 Ω \(3\.42 W\) each across bp/);
   });
 
   it('explains the figures under the names the tables head them with, not the JSON keys', async () => {
