@@ -406,11 +406,9 @@ class Expander {
     }
     typeRef ??= this.defaultTube;
     const model = typeRef ? this.resolveTypeRef(typeRef) : undefined;
-    // What a stage with a syntax error lacks may be in its broken item: the syntax error is
-    // the one to report, not what follows from it.
-    if (!typeRef && !st.broken) d.push(error('missing-field', `stage '${out.local}' names no tube: add 'tube NAME', or 'tube = NAME' in defaults`, st.out.span));
-    if (!load && !st.broken) d.push(error('missing-field', `stage '${out.local}' has no plate load: add 'load 33 k to RAIL'`, st.out.span));
-    if (inputs.length === 0 && !st.broken) d.push(error('stage-no-input', `stage '${out.local}' has no input: add 'input NET series R pulldown R to RAIL'`, st.out.span));
+    if (!typeRef) d.push(error('missing-field', `stage '${out.local}' names no tube: add 'tube NAME', or 'tube = NAME' in defaults`, st.out.span));
+    if (!load) d.push(error('missing-field', `stage '${out.local}' has no plate load: add 'load 33 k to RAIL'`, st.out.span));
+    if (inputs.length === 0) d.push(error('stage-no-input', `stage '${out.local}' has no input: add 'input NET series R pulldown R to RAIL'`, st.out.span));
 
     const refer = (ref: NetRef): ResolvedNet | undefined => {
       const r = this.resolveNet(ref, scope);

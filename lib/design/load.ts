@@ -45,10 +45,18 @@ export function loadDesign(file: string, text: string, options: LoadOptions = {}
     sources = new Map([[file, text]]);
   } else {
     const collected = collectSources(file, text, options.loader);
-    const expanded = expandDesign(collected.statements);
-    design = expanded.value;
-    diagnostics = [...collected.diagnostics, ...expanded.diagnostics];
     sources = collected.texts;
+    if (hasErrors(collected.diagnostics)) {
+      // A file that does not read (a syntax error, an include not found) is not given a
+      // meaning: what expanding it would say (a net "unknown" because its stage broke off,
+      // a stage "with no input" because its input did not parse) follows from the error.
+      design = undefined;
+      diagnostics = collected.diagnostics;
+    } else {
+      const expanded = expandDesign(collected.statements);
+      design = expanded.value;
+      diagnostics = [...collected.diagnostics, ...expanded.diagnostics];
+    }
   }
   // concat, not push(...): a large design can have more warnings than a call takes arguments.
   if (design && !hasErrors(diagnostics)) diagnostics = diagnostics.concat(validateDesign(design, file));

@@ -98,8 +98,7 @@ export type Statement =
   | { kind: 'defaults'; fields: Assignment[]; tube: TypeRef | undefined; span: SourceSpan }
   | { kind: 'rail'; name: Name; volts: Expr; tol: Expr | undefined; source: Expr | undefined; span: SourceSpan }
   | { kind: 'type'; name: Name; base: { kind: 'kind'; name: Name } | { kind: 'like'; type: TypeRef }; fields: Assignment[]; span: SourceSpan }
-  /** `broken`: an item of the stage had a syntax error, so what it lacks may be in that item. */
-  | { kind: 'stage'; out: NetRef; items: StageItem[]; broken: boolean; span: SourceSpan }
+  | { kind: 'stage'; out: NetRef; items: StageItem[]; span: SourceSpan }
   | PartStmt
   | { kind: 'block'; name: Name; ports: Name[]; body: Statement[]; span: SourceSpan }
   | {

@@ -368,7 +368,6 @@ class Parser {
     const out = this.parseNetRef('the name of the net this stage drives');
     this.expectPunct('{');
     const items: StageItem[] = [];
-    let broken = false;
     for (;;) {
       this.skipSeparators();
       const t = this.peek();
@@ -382,11 +381,10 @@ class Parser {
         this.endStatement();
       } catch (e) {
         if (!(e instanceof Bail)) throw e;
-        broken = true;
         this.synchronize();
       }
     }
-    return { kind: 'stage', out, items, broken, span: this.since(start) };
+    return { kind: 'stage', out, items, span: this.since(start) };
   }
 
   private parseStageItem(): StageItem {

@@ -210,6 +210,13 @@ resistor R2 (bp, p2) 10 k`);
     // input: the stage seems to name no tube and have no input, but those follow from the two.
     const r = load(`${HEADER}stage q { tube 12AU7; load 33 k to bp; input q series 220 k pulldown 470 k }`);
     expect(where(r.diagnostics)).toEqual(['5:16-5:21 unexpected-token', '5:76-5:77 unexpected-token']);
+    // A stage left without its closing brace swallows the next: the net that stage drives
+    // is not "unknown" where the first one reads it; only the brace is reported.
+    const brace = load(`${HEADER}stage q { tube LT; load 33 k to bp; input nq series 220 k pulldown 470 k to bias }
+stage nq { tube LT; load 33 k to bp; input q series 220 k pulldown 470 k to bias
+`);
+    expect(codes(brace.diagnostics)).toEqual(['unexpected-token']);
+    expect(brace.diagnostics[0]!.message).toContain("no closing '}'");
     // A stage without syntax errors that lacks them is still told so.
     expect(codes(load(`${HEADER}stage q { load 33 k to bp }`).diagnostics)).toEqual(['missing-field', 'stage-no-input']);
   });
