@@ -24,7 +24,7 @@ export interface SolveJson {
   resistors: Record<string, { amps: number; watts: number; ratingWatts: number }>;
   hints: { net: string; state: 0 | 1; assumed: boolean; volts: number; held: boolean }[];
   /** Latches whose inputs hold both nets at one level (a stable state, not the metastable point). */
-  forcedLatches: { nets: [string, string]; volts: [number, number]; both: 0 | 1 }[];
+  forcedLatches: { nets: [string, string]; volts: [number, number]; /** The logic level both nets sit at: 0 (set and clear at once) or 1. */ level: 0 | 1 }[];
   warnings: { code: string; message: string }[];
   cautions: string[];
 }
@@ -53,7 +53,7 @@ export function solveToJson(design: Design, op: OperatingPoint): SolveJson {
     tubes,
     resistors,
     hints: op.hints.map((h) => ({ net: h.net, state: h.high ? 1 : 0, assumed: h.assumed, volts: h.volts, held: h.held })),
-    forcedLatches: op.forcedLatches.map((l) => ({ nets: l.nets, volts: l.volts, both: l.high ? 1 : 0 })),
+    forcedLatches: op.forcedLatches.map((l) => ({ nets: l.nets, volts: l.volts, level: l.high ? 1 : 0 })),
     warnings: op.diagnostics.map((d) => ({ code: d.code, message: d.message })),
     cautions: safetyCautions(design),
   };
@@ -71,7 +71,7 @@ export function renderSolve(design: Design, op: OperatingPoint, source: string):
   const out: string[] = [];
   out.push(`${design.title || '(untitled design)'} — ${source}`);
   append(out, wrap(
-      `${op.converged ? 'Solved' : 'NOT CONVERGED'} by ${op.method} in ${op.iterations} Newton iterations; largest KCL residual ${Number.isFinite(op.residualAmps) ? `${op.residualAmps.toExponential(1)} A` : 'not measurable (the solve broke down)'} (limit 1 nA).`,
+      `${op.converged ? 'Solved' : 'NOT CONVERGED'} by ${op.method === 'newton' ? "Newton's method" : op.method} in ${op.iterations} iterations; largest KCL residual ${Number.isFinite(op.residualAmps) ? `${op.residualAmps.toExponential(1)} A` : 'not measurable (the solve broke down)'} (limit 1 nA).`,
       REPORT_COLUMNS,
     ));
   if (op.hints.length > 0) {

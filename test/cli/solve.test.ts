@@ -76,7 +76,7 @@ describe('tubemargin solve', () => {
     expect(r.out).toMatch(/latch bed\[1\]\/off ↔ bed\[1\]\/on is held with both nets low/);
     expect(r.out).not.toContain('undecided');
     const j = JSON.parse((await run(['solve', 'nets/irrigation-sequencer.tube', '--close', 'STOP', '--close', 'bed[1]/START', '--json'])).out);
-    expect(j.forcedLatches).toEqual([{ nets: ['bed[1]/off', 'bed[1]/on'], volts: [expect.any(Number), expect.any(Number)], both: 0 }]);
+    expect(j.forcedLatches).toEqual([{ nets: ['bed[1]/off', 'bed[1]/on'], volts: [expect.any(Number), expect.any(Number)], level: 0 }]);
     for (const v of j.forcedLatches[0].volts) expect(v).toBeLessThan(5);
   });
 
