@@ -1,5 +1,5 @@
-import { buildStageGraph, checkMargins, loadDesign, solveOperatingPoint } from '../lib/index.js';
-import { generateRegister } from './generate.js';
+import { buildStageGraph, checkMargins, loadDesign, solveOperatingPoint, type CheckOptions, type CheckResult, type Design, type StageGraph } from '../lib/index.js';
+import { generateRegister, generateVariedRegister } from './generate.js';
 
 function median(xs: number[]): number {
   const s = [...xs].sort((a, b) => a - b);
@@ -31,6 +31,31 @@ function decidedNets(nets: readonly { status: string; basis: string }[]): string
   return [...counts].map(([k, c]) => `${c.toLocaleString('en')} ${words[k] ?? k}`).join(', ');
 }
 
+/** A generated design, loaded (it must have no errors) with its stage graph. */
+function loaded(text: string): { design: Design; graph: StageGraph } {
+  const r = loadDesign('generated.tube', text);
+  if (!r.ok || !r.design) throw new Error('the generated design has errors');
+  return { design: r.design, graph: buildStageGraph(r.design) };
+}
+
+/** `checkMargins` of a loaded design, with its wall time in milliseconds. */
+function timedCheck(design: Design, graph: StageGraph, options: CheckOptions = {}): { ms: number; result: CheckResult } {
+  const t0 = performance.now();
+  const result = checkMargins(design, { graph, ...options });
+  const ms = performance.now() - t0;
+  if (!('verdict' in result)) throw new Error('the generated design does not compile');
+  return { ms, result };
+}
+
+/** One nominal full-circuit solve from scratch (compile, symbolic analysis, Newton), in milliseconds; it must converge. */
+function timedSolve(design: Design, graph: StageGraph): number {
+  const t0 = performance.now();
+  const op = solveOperatingPoint(design, { graph });
+  const ms = performance.now() - t0;
+  if (!('nodes' in op) || !op.converged) throw new Error('the generated design did not solve');
+  return ms;
+}
+
 /**
  * `check` against one nominal full-circuit solve of the same generated register, in one
  * run: each measured `runs` times after a warm-up, medians reported.
@@ -38,34 +63,84 @@ function decidedNets(nets: readonly { status: string; basis: string }[]): string
 export function benchCheck(sizes: number[], runs = 7): CheckBenchRow[] {
   return sizes.map((stages) => {
     const text = generateRegister(stages);
-    const design = loadDesign('generated.tube', text).design!;
-    const graph = buildStageGraph(design);
+    const { design, graph } = loaded(text);
     const checks: number[] = [];
     const solves: number[] = [];
     const fronts: number[] = [];
     const rated: number[] = [];
-    const run = () => {
-      const r = checkMargins(design, { graph });
-      if (!('verdict' in r)) throw new Error('the generated design does not compile');
-      return r;
-    };
-    let last = run();
-    solveOperatingPoint(design, { graph });
+    let last = timedCheck(design, graph).result;
+    timedSolve(design, graph);
     for (let i = 0; i < runs; i++) {
-      let t0 = performance.now();
-      last = run();
-      checks.push(performance.now() - t0);
-      t0 = performance.now();
-      const op = solveOperatingPoint(design, { graph });
-      solves.push(performance.now() - t0);
-      if (!('nodes' in op) || !op.converged) throw new Error('the generated design did not solve');
-      t0 = performance.now();
+      const check = timedCheck(design, graph);
+      last = check.result;
+      checks.push(check.ms);
+      solves.push(timedSolve(design, graph));
+      const t0 = performance.now();
       buildStageGraph(loadDesign('generated.tube', text).design!);
       fronts.push(performance.now() - t0);
-      t0 = performance.now();
-      checkMargins(design, { graph, ratings: true });
-      rated.push(performance.now() - t0);
+      rated.push(timedCheck(design, graph, { ratings: true }).ms);
     }
     return { stages, nets: graph.nets.length, checkMs: median(checks), solveMs: median(solves), frontMs: median(fronts), withRatingsMs: median(rated), localSolves: last.localSolves, verdict: last.verdict, decided: decidedNets(last.nets) };
   });
+}
+
+/** The seed of the varied registers the bench checks (`generateVariedRegister`). */
+export const VARIED_SEED = 1;
+
+/** How many weak nets the refinement row plants in the varied register. */
+export const WEAK_NETS = 4;
+
+export interface VariedCheckRow {
+  stages: number;
+  nets: number;
+  /** `checkMargins` on the loaded design and its stage graph, one run (ms): a run takes seconds to minutes. */
+  checkMs: number;
+  /** One nominal full-circuit solve from scratch (ms, median of seven after a warm-up, as the uniform rows). */
+  solveMs: number;
+  localSolves: number;
+  verdict: string;
+  decided: string;
+  /** The weakest net's slack against the required margin (volts; `NetCheck.slack`): how much room the bounds leave. */
+  leastSlack: number;
+  /** The process's peak resident memory after this check (`process.resourceUsage().maxRSS`, MiB): the sizes run in rising order, so it is this size's peak. */
+  maxRssMiB: number;
+}
+
+/** The varied register of each size (seed `VARIED_SEED`), checked once, beside the median of seven nominal full solves. */
+export function benchVariedCheck(sizes: number[], weakNets = 0): VariedCheckRow[] {
+  return sizes.map((stages) => {
+    const { design, graph } = loaded(generateVariedRegister(stages, VARIED_SEED, { weakNets }));
+    timedSolve(design, graph);
+    const solveMs = median(Array.from({ length: 7 }, () => timedSolve(design, graph)));
+    const { ms, result } = timedCheck(design, graph);
+    return { stages, nets: graph.nets.length, checkMs: ms, solveMs, localSolves: result.localSolves, verdict: result.verdict, decided: decidedNets(result.nets), leastSlack: result.nets[0]!.slack, maxRssMiB: process.resourceUsage().maxRSS / 1024 };
+  });
+}
+
+/**
+ * The varied-register table for docs/PERFORMANCE.md: each size's row, the scaling
+ * exponent of check from the first size to the last, the peak memory at the last, and
+ * the refinement row: the same design as one of the sizes with `WEAK_NETS` nets weakened,
+ * its check time against the row's.
+ */
+export function variedCheckTable(rows: VariedCheckRow[], weak: VariedCheckRow | undefined, command: string): string {
+  const first = rows[0]!;
+  const last = rows[rows.length - 1]!;
+  const same = weak && rows.find((r) => r.stages === weak.stages);
+  const exponent = Math.log(last.checkMs / first.checkMs) / Math.log(last.stages / first.stages);
+  return [
+    `Measured ${new Date().toISOString().slice(0, 10)} on ${process.platform}/${process.arch}, Node ${process.version}, by \`${command}\` (seed ${VARIED_SEED}; check run once a size, the solve the median of seven).`,
+    '',
+    '| stages | nets | check | one nominal full solve | check ÷ solve | local solves | verdict | least slack |',
+    '|---:|---:|---:|---:|---:|---:|---|---:|',
+    ...rows.map((r) => `| ${r.stages.toLocaleString('en')} | ${r.nets.toLocaleString('en')} | ${(r.checkMs / 1000).toFixed(1)} s | ${r.solveMs.toFixed(0)} ms | **${(r.checkMs / r.solveMs).toFixed(0)}×** | ${r.localSolves.toLocaleString('en')} | ${r.verdict} (${r.decided}) | ${r.leastSlack.toFixed(2)} V |`),
+    '',
+    ...(rows.length > 1 ? [`- Scaling exponent of check, ${first.stages.toLocaleString('en')} → ${last.stages.toLocaleString('en')} stages: ${exponent.toFixed(2)} (goal ≤ 1.1).`] : []),
+    `- Peak resident memory after the ${last.stages.toLocaleString('en')}-stage check: ${last.maxRssMiB.toFixed(0)} MiB (goal under 1 GiB at 8,000 stages).`,
+    ...(weak && same
+      ? [
+          `- Refinement: the ${weak.stages.toLocaleString('en')}-stage design with ${WEAK_NETS} weak nets planted (\`weakNets: ${WEAK_NETS}\`) checks in ${(weak.checkMs / 1000).toFixed(1)} s, **${(weak.checkMs / same.checkMs).toFixed(2)}×** the same design without them (goal ≤ 2×); ${weak.localSolves.toLocaleString('en')} local solves; ${weak.verdict} (${weak.decided}).`,
+        ]
+      : []),
+  ].join('\n');
 }

@@ -2,7 +2,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { buildStageGraph, loadDesign } from '../lib/index.js';
 import { generateRegister } from './generate.js';
 import { againstDense, benchSizes, iterationAgainstModels } from './solverBench.js';
-import { benchCheck } from './checkBench.js';
+import { benchCheck, benchVariedCheck, variedCheckTable, WEAK_NETS } from './checkBench.js';
 import { benchDemoYield, benchSampling } from './samplingBench.js';
 import { benchPulse } from './pulseBench.js';
 import { familyDesigns, gateDesigns } from './family.js';
@@ -108,6 +108,12 @@ const checkTable = [
 ].join('\n');
 process.stdout.write(checkTable + '\n');
 
+// ---- check on the varied register (issue #16) ------------------------------------------
+process.stdout.write('checking the varied register at 500, 2,000 and 8,000 stages, and at 2,000 with weak nets; this takes many minutes\n');
+const variedRows = benchVariedCheck([500, 2000, 8000]);
+const variedTable = variedCheckTable(variedRows, benchVariedCheck([2000], WEAK_NETS)[0], 'npm run bench');
+process.stdout.write(variedTable + '\n');
+
 // ---- check against the oracle family ------------------------------------------------------
 const family = runFamily(familyDesigns(2026015, 45), 200);
 const judged = family.comparisons.flatMap((c) => c.verdicts);
@@ -196,6 +202,7 @@ if (process.argv.includes('--write')) {
   put('front-end', table);
   put('solver', solverTable);
   put('check', checkTable);
+  put('check-varied', variedTable);
   put('family', familyTable);
   put('gates', gateTable);
   put('sampling', samplingTable);
