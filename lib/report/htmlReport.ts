@@ -9,7 +9,7 @@ import { logicThreshold, type OperatingPoint } from '../solve/operatingPoint.js'
 import { butterflyChart, histogramChart, marginChart, marginRows, MAX_WAVE_ROWS, PALETTE, svgOf, sweepChart, transferChart, waveformChart } from './charts.js';
 import { DEFINITIONS, DEFINITION_HEADINGS, definitionKeys } from './checkReport.js';
 import { formatSI } from './format.js';
-import { CAUTION_PREFIX, safetyCautions, type AppliedLevel } from './safety.js';
+import { CAUTION_PREFIX, safetyCautions, sweptLevels, type AppliedLevel } from './safety.js';
 import type { Diagnostic } from '../source/diagnostic.js';
 import { compareNames } from '../graph/stageGraph.js';
 
@@ -90,7 +90,8 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
   const weakestLine = weakestNet ? `<p class="weakest">The weakest net is <strong id="weakest">${e(weakestNet.name)}</strong>${weakestNet.reasons[0] ? `: ${e(weakestNet.reasons[0])}` : ''}.</p>` : '';
   parts.push(`<header><h1>${e(title)}</h1><p class="source">${e(source)} · ageing: ${e(check.scenario.name)} (${e(check.scenario.summary)})</p><p id="verdict" class="verdict ${check.verdict}">${e(verdict)}</p>${check.modelRange.map((m) => `<p class="model-range">${e(`The verdict rests on a model used outside its trusted range: ${m}.`)}</p>`).join('')}${weakestLine}</header>`);
 
-  parts.push(cautionSection(safetyCautions(design)));
+  // A supply map's rails at the farthest values swept to, as well as at their tolerance.
+  parts.push(cautionSection(safetyCautions(design, input.sweep ? sweptLevels(input.sweep.axes) : [])));
 
   const netsTable =
     `<section id="nets"><h2>Nets, weakest first</h2><table><thead><tr><th>net</th><th>driver</th><th>fan-out</th><th>worst high</th><th>worst low</th><th>NM_H</th><th>NM_L</th><th>cutoff</th><th>drive</th><th>more loads</th><th>status</th></tr></thead><tbody>${check.nets

@@ -19,6 +19,11 @@ export interface AppliedLevel {
  *
  * Example: a design with `rail neg = -75 V tol 5 %` names `neg (down to −78.8 V)`.
  */
+/** The levels a supply sweep sets each rail to, for the cautions: a rail swept past its tolerance reaches them. */
+export function sweptLevels(axes: readonly { rail: string; values: readonly number[] }[]): AppliedLevel[] {
+  return axes.flatMap((a) => a.values.map((volts) => ({ name: a.rail, volts })));
+}
+
 export function safetyCautions(design: Design, applied: readonly AppliedLevel[] = []): string[] {
   const extreme = (v: number, tol: number) => v * (1 + tol);
   const high = [

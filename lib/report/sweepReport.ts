@@ -2,7 +2,7 @@ import type { RailSweepResult } from '../analysis/sweep.js';
 import type { Design } from '../design/model.js';
 import { wrap } from './format.js';
 import { figure, named, type Figure } from './figure.js';
-import { safetyCautions } from './safety.js';
+import { safetyCautions, sweptLevels } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
 import { append, highest } from '../lists.js';
 
@@ -31,7 +31,7 @@ export function sweepToJson(design: Design, r: RailSweepResult): SweepJson {
       const none = 'the nominal point fails, so there is no window around it along this rail';
       return { rail: w.rail, ...figure('low', w.low, none), ...figure('high', w.high, none), ...figure('position', w.position, w.low === undefined ? none : 'the window has no width to place the nominal in') };
     }),
-    cautions: safetyCautions(design),
+    cautions: safetyCautions(design, sweptLevels(r.axes)),
   };
 }
 
@@ -76,7 +76,7 @@ export function renderSweep(design: Design, r: RailSweepResult, source: string):
     const where = outside ? `; the nominal ${volts(axis.nominal)} lies outside the sweep` : w.position === undefined ? '' : `; nominal ${volts(axis.nominal)} at ${Math.round(w.position * 100)} % of it`;
     append(out, wrap(`${w.rail}: ${volts(w.low)}${edge(w.low, axis.values[0]!)} to ${volts(w.high)}${edge(w.high, axis.values[axis.values.length - 1]!)}${where}`, REPORT_COLUMNS - 2, '  ').map((l) => '  ' + l));
   }
-  const cautions = safetyCautions(design);
+  const cautions = safetyCautions(design, sweptLevels(r.axes));
   if (cautions.length > 0) out.push('', ...cautions.flatMap((c) => wrap(c, REPORT_COLUMNS)));
   return out.join('\n') + '\n';
 }

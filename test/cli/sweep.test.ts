@@ -12,6 +12,15 @@ describe('tubemargin sweep', () => {
     expect(r.code).toBe(r.out.includes('@') ? 0 : 1);
   });
 
+  it('shows the safety cautions for a rail swept above 60 V, at the farthest value swept (extra-low voltage: 60 V DC, common practice, no source)', async () => {
+    // The adder's 24 V rail is safe as built; swept to 72 V it is not, and the caution says so.
+    const r = await run(['sweep', 'nets/nor-adder.tube', '--rail', 'bp=24:72:48']);
+    expect(r.out).toMatch(/CAUTION: bp \(up to 72 V\)/);
+    const j = JSON.parse((await run(['sweep', 'nets/nor-adder.tube', '--rail', 'bp=24:72:48', '--json'])).out);
+    expect(j.cautions[0]).toMatch(/bp \(up to 72 V\)/);
+    expect((await run(['sweep', 'nets/nor-adder.tube', '--rail', 'bp=20:28:8'])).out).not.toContain('CAUTION');
+  });
+
   it('writes the whole grid as tubemargin.sweep/1 JSON', async () => {
     const r = await run(['sweep', 'nets/nor-adder.tube', '--rail', 'bp=22:26:2', '--rail', 'bias=-13:-11:1', '--heater', '0.9', '--json']);
     const json = JSON.parse(r.out);
