@@ -178,7 +178,7 @@ export async function runPulse(file: string, options: PulseCliOptions, io: CliIo
     return ok ? EXIT.ok : EXIT.failed;
   }
   io.stdout(pulseText(file, design.title, r, inputs, stop.value, expected, misses, limit).join('\n') + '\n');
-  for (const c of cautions) io.stdout(wrap(c, 80, '').join('\n') + '\n');
+  for (const c of cautions) io.stdout(wrap(c, 80).join('\n') + '\n');
   return ok ? EXIT.ok : EXIT.failed;
 }
 
@@ -228,7 +228,7 @@ function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string,
   const out = [`${title || '(untitled design)'} — ${file}`];
   // The verdict first, as check gives it and as the exit code says it.
   append(out, wrap(pulseVerdict({ run: r, limit, expected, missed: misses }).text, 80));
-  append(out, wrap(`Simulated ${si(stop, 's')} in ${r.run.accepted} steps (${r.run.rejected} taken again): trapezoidal rule, steps by truncation error.`, 80, ''));
+  append(out, wrap(`Simulated ${si(stop, 's')} in ${r.run.accepted} steps (${r.run.rejected} taken again): trapezoidal rule, steps by truncation error.`, 80));
   for (const [name, w] of inputs) append(out, wrap(`${name} = ${w.text}`, 78, '  ').map((line) => `  ${line}`));
   out.push('Watched nets, in the order of the state column:');
   r.nets.forEach((n, i) => out.push(`  ${String(i + 1).padStart(2)}. ${n}`));
@@ -253,7 +253,7 @@ function pulseText(file: string, title: string, r: PulseRun, inputs: Map<string,
     const name = latch?.join('/');
     const flips = name ? r.pulses.filter((p) => p.flipped.includes(name)).length : 0;
     const said = latch ? `: latch ${name} flipped on ${flips === 0 ? 'no pulse' : `${flips} of ${r.pulses.length} pulses`}` : '';
-    append(out, wrap(`Expected ${m.net}=${m.high ? 1 : 0} at the end, NOT met${said}.`, 80, ''));
+    append(out, wrap(`Expected ${m.net}=${m.high ? 1 : 0} at the end, NOT met${said}.`, 80));
   }
   if (limit) append(out, limitText(limit));
   return out;
@@ -272,14 +272,14 @@ function limitText(l: ClockLimitResult): string[] {
           .join(', ')}${f.wrong.length > 4 ? ` and ${f.wrong.length - 4} more nets are wrong` : ''}`
     : '';
   if (l.passing === undefined) {
-    append(out, wrap(`Fastest clock: FAILS at the given period, ${si(l.givenPeriod, 's')}, in the ${f!.corner} corner (${corner(f!.corner).description}): ${what}.`, 80, ''));
+    append(out, wrap(`Fastest clock: FAILS at the given period, ${si(l.givenPeriod, 's')}, in the ${f!.corner} corner (${corner(f!.corner).description}): ${what}.`, 80));
     return out;
   }
   const rate = (p: number) => si(1 / p, 'Hz');
-  append(out, wrap(`Fastest clock in worst case: a period of ${si(l.passing, 's')} (${rate(l.passing)}) counts as the given clock does in every corner (${TIMING_CORNERS.map((c) => c.name).join(', ')}).`, 80, ''));
-  if (f) append(out, wrap(`At ${si(f.period, 's')} it fails in the ${f.corner} corner (${corner(f.corner).description}): ${what}.`, 80, ''));
+  append(out, wrap(`Fastest clock in worst case: a period of ${si(l.passing, 's')} (${rate(l.passing)}) counts as the given clock does in every corner (${TIMING_CORNERS.map((c) => c.name).join(', ')}).`, 80));
+  if (f) append(out, wrap(`At ${si(f.period, 's')} it fails in the ${f.corner} corner (${corner(f.corner).description}): ${what}.`, 80));
   else out.push(`It still counted at ${si(l.passing, 's')}, the shortest period tried.`);
-  if (l.limiting) append(out, wrap(`Limiting stage: ${l.limiting.stage} (delay ${si(l.limiting.delay?.seconds, 's')} from ${l.limiting.delay?.from ?? '—'}, rise ${si(l.limiting.rise, 's')}, fall ${si(l.limiting.fall, 's')} at ${si(l.passing, 's')}).`, 80, ''));
+  if (l.limiting) append(out, wrap(`Limiting stage: ${l.limiting.stage} (delay ${si(l.limiting.delay?.seconds, 's')} from ${l.limiting.delay?.from ?? '—'}, rise ${si(l.limiting.rise, 's')}, fall ${si(l.limiting.fall, 's')} at ${si(l.passing, 's')}).`, 80));
   out.push(`${l.runs} simulations.`);
   return out;
 }
