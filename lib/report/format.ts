@@ -1,6 +1,17 @@
 import { highest } from '../lists.js';
 
-export { formatSI } from '../netlist/units.js';
+import { formatSI } from '../netlist/units.js';
+
+export { formatSI };
+
+/**
+ * A current or power a builder could read on the bench: below a pico-unit it shows as 0, so
+ * a cut-off section reads 0 A and 0 W alike (its plate current times its plate voltage once
+ * showed '1.43 fW' beside '0 A').
+ */
+export function formatReading(value: number, unit: string): string {
+  return formatSI(Math.abs(value) < 1e-12 ? 0 : value, unit);
+}
 
 /** A fraction as a ± percentage: `formatTolerance(0.05)` is "±5 %". */
 export function formatTolerance(fraction: number): string {

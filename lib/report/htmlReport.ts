@@ -8,7 +8,7 @@ import { findLibraryEntry } from '../models/library.js';
 import { logicThreshold, type OperatingPoint } from '../solve/operatingPoint.js';
 import { butterflyChart, histogramChart, marginChart, marginRows, MAX_WAVE_ROWS, PALETTE, svgOf, sweepChart, transferChart, waveformChart } from './charts.js';
 import { DEFINITIONS, DEFINITION_HEADINGS, definitionKeys } from './checkReport.js';
-import { formatSI } from './format.js';
+import { formatReading, formatSI } from './format.js';
 import { CAUTION_PREFIX, safetyCautions, sweptLevels, type AppliedLevel } from './safety.js';
 import type { Diagnostic } from '../source/diagnostic.js';
 import { compareNames } from '../graph/stageGraph.js';
@@ -352,7 +352,7 @@ function facts(design: Design, op: OperatingPoint | undefined): string {
       .slice(0, 5);
     const warm = [...op.resistors].sort((a, b) => b.watts / b.ratingWatts - a.watts / a.ratingWatts).slice(0, 5);
     out.push(
-      `<table><thead><tr><th>section</th><th>plate dissipation (nominal)</th><th>rating</th></tr></thead><tbody>${hot.map((t) => `<tr><td>${e(t.name)}</td><td>${e(formatSI(t.watts, 'W'))}</td><td>${t.rating === undefined ? '—' : e(formatSI(t.rating, 'W'))}</td></tr>`).join('')}</tbody></table>`,
+      `<table><thead><tr><th>section</th><th>plate dissipation (nominal)</th><th>rating</th></tr></thead><tbody>${hot.map((t) => `<tr><td>${e(t.name)}</td><td>${e(formatReading(t.watts, 'W'))}</td><td>${t.rating === undefined ? '—' : e(formatSI(t.rating, 'W'))}</td></tr>`).join('')}</tbody></table>`,
     );
     out.push(
       `<table><thead><tr><th>resistor</th><th>power (nominal)</th><th>rating</th><th>share</th></tr></thead><tbody>${warm.map((r) => `<tr><td>${e(r.name)}</td><td>${e(formatSI(r.watts, 'W'))}</td><td>${e(formatSI(r.ratingWatts, 'W'))}</td><td>${e(`${Math.round((100 * r.watts) / r.ratingWatts)} %`)}</td></tr>`).join('')}</tbody></table>`,

@@ -2,7 +2,7 @@ import { isGeneratedName, type Design } from '../design/model.js';
 import { compareNames } from '../graph/stageGraph.js';
 import type { OperatingPoint } from '../solve/operatingPoint.js';
 import { logicThreshold } from '../solve/operatingPoint.js';
-import { formatSI, table, wrap } from './format.js';
+import { formatReading, formatSI, table, wrap } from './format.js';
 import { figure } from './figure.js';
 import { safetyCautions } from './safety.js';
 import { REPORT_COLUMNS } from './showText.js';
@@ -114,10 +114,10 @@ export function renderSolve(design: Design, op: OperatingPoint, source: string):
         v2(t.vak),
         v2(t.vgk),
         t.vg2k === undefined ? '—' : v2(t.vg2k),
-        formatSI(t.plateAmps, 'A'),
-        formatSI(t.gridAmps, 'A'),
-        t.vg2k === undefined ? '—' : formatSI(t.screenAmps, 'A'),
-        formatSI(t.plateWatts, 'W'),
+        formatReading(t.plateAmps, 'A'),
+        formatReading(t.gridAmps, 'A'),
+        t.vg2k === undefined ? '—' : formatReading(t.screenAmps, 'A'),
+        formatReading(t.plateWatts, 'W'),
       ]),
       [18, 7, 6, 6, 9, 9, 9],
     ));

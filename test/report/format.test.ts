@@ -1,6 +1,6 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { wrap } from '../../lib/report/format.js';
+import { formatReading, wrap } from '../../lib/report/format.js';
 
 /** True when some line ends in a number whose unit opens the next line: the split issue #17 (item 7) asks to end. */
 function splitsNumberFromUnit(lines: string[]): boolean {
@@ -58,5 +58,14 @@ describe('wrap', () => {
       }),
       { numRuns: 500, seed: 20261217 },
     );
+  });
+});
+
+describe('readings a builder could take', () => {
+  it('show a cut-off section as 0 A and 0 W alike, not 0 A beside femtowatts (a bench meter reads nothing below a picoamp: common practice, no source)', () => {
+    expect(formatReading(6e-17, 'A')).toBe('0 A');
+    expect(formatReading(6e-17 * 24, 'W')).toBe('0 W');
+    expect(formatReading(608e-6, 'A')).toBe('608 µA');
+    expect(formatReading(-2e-9, 'A')).toBe('-2 nA');
   });
 });
