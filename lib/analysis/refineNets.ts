@@ -844,7 +844,7 @@ export function refineVerdicts(ctx: RefineContext, nets: NetCheck[], latches: La
     if (!r) {
       n.status = 'undecided';
       n.basis = 'undecided';
-      n.reasons.unshift(`undecided: the bound fails, and ${refiner.notSearched()}`);
+      n.reasons = [`undecided: the bound fails, and ${refiner.notSearched()}`, ...n.reasons.map((x) => (x.startsWith('the bound: ') ? x : `the bound: ${x}`))];
       continue;
     }
     n.status = r.status;

@@ -535,8 +535,9 @@ export function renderCheck(design: Design, r: CheckResult, source: string, mc?:
     out.push('');
     out.push('The weakest nets, and why');
     explained.forEach((n, k) => {
+      // The head already says UNDECIDED: a reason that opens with it does not say it twice.
       const summary =
-        n.reasons[0] ??
+        n.reasons[0]?.replace(n.status === 'undecided' ? /^undecided: / : /^$/, '') ??
         (n.weakest?.what === 'cutoff'
           ? `cutoff margin ${v(n.cutoffMargin?.volts)} V`
           : n.weakest?.what === 'low'

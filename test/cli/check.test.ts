@@ -146,6 +146,15 @@ stage nq { load 39 k to bp; screen bp; input q series 220 k pulldown 220 k to bi
     expect(text).toMatch(/6 strings of 3 with 17 Ω \(1\.53 W\) each and 1 string of 2 with 38 Ω \(3\.42 W\) each across bp/);
   });
 
+  it('says UNDECIDED once, and names every bound it cites as the bound', async () => {
+    const r = await run(['check', 'nets/irrigation-sequencer.tube']);
+    const text = r.out.replace(/\n +/g, ' ');
+    expect(text).toMatch(/\(UNDECIDED\): /);
+    expect(text).not.toMatch(/\(UNDECIDED\): undecided/i);
+    // Under a net that bounds failed and corners did not decide, each further reason is the bound's.
+    for (const m of text.matchAll(/\(UNDECIDED\):[^\n]*?also: (.{10})/g)) expect(m[1]).toBe('the bound:');
+  });
+
   it('explains the figures under the names the tables head them with, not the JSON keys', async () => {
     const r = await run(['check', 'nets/irrigation-sequencer.tube']);
     const glossary = r.out.slice(r.out.indexOf('What the figures mean'));
