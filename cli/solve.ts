@@ -1,4 +1,4 @@
-import { designNets, findPart, reproduceWitness, solveOperatingPoint } from '../lib/index.js';
+import { findPart, reproduceWitness, solveOperatingPoint } from '../lib/index.js';
 import { renderSolve, solveToJson } from '../lib/report/solveReport.js';
 import { wrap } from '../lib/report/format.js';
 import { REPORT_COLUMNS } from '../lib/report/showText.js';

@@ -6,7 +6,7 @@ import { didYouMean } from '../source/suggest.js';
 import { DEFAULT_SPREAD, GRID_DEFAULTS, GRID_RANGES, MODEL_KINDS, MODEL_KIND_NAMES, isModelKind } from '../models/kinds.js';
 import { TUBE_LIBRARY, findLibraryEntry } from '../models/library.js';
 import { evaluate, evaluateAs, evaluateInteger, evaluateTolerance, ValueScope, type Quantity } from './evaluate.js';
-import { CAPACITOR_TOL, DEFAULT_SETTINGS, DIODE_DEFAULTS, DIODE_RANGES, GROUND, type Design, type DesignSettings, type Part, type Rail, type StageRole, type TubeModel } from './model.js';
+import { CAPACITOR_TOL, DEFAULT_SETTINGS, DIODE_DEFAULTS, DIODE_RANGES, GROUND, type Design, type DesignSettings, type Part, type Rail, type StageRole, type TubeModel, type TubeSection } from './model.js';
 
 /** How deeply block instances may nest inside each other. */
 export const MAX_BLOCK_DEPTH = 32;
@@ -453,8 +453,11 @@ class Expander {
         }
       }
       if (model !== undefined && cathodeNet !== undefined) {
-        const section: Part = { type: 'tube', name: `${base}.v${n}`, model, plate: out.global, grid, cathode: cathodeNet, ...role('section'), span: input.span };
-        if (screenNet !== undefined && screen) Object.assign(section, { screen: screenNet, screenSpan: screen.span });
+        const section: TubeSection = { type: 'tube', name: `${base}.v${n}`, model, plate: out.global, grid, cathode: cathodeNet, ...role('section'), span: input.span };
+        if (screenNet !== undefined && screen) {
+          section.screen = screenNet;
+          section.screenSpan = screen.span;
+        }
         this.addPart(section);
       }
     });

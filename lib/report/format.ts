@@ -1,5 +1,4 @@
 import { highest } from '../lists.js';
-
 import { formatSI } from '../netlist/units.js';
 
 export { formatSI };

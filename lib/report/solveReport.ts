@@ -77,12 +77,14 @@ export function renderSolve(design: Design, op: OperatingPoint, source: string):
   if (op.hints.length > 0) {
     out.push('');
     out.push('Started from');
+    // An item of the list, indented, its continuation lines under its text.
+    const item = (text: string) => append(out, wrap(text, REPORT_COLUMNS - 2).map((l, i) => (i === 0 ? `  ${l}` : l)));
     for (const h of op.hints) {
       const state = `${h.net}=${h.high ? 1 : 0}`;
       if (!h.assumed) out.push(`  ${state}: ${h.held ? 'held' : 'NOT HELD'} at ${v2(h.volts)} V`);
-      else if (h.stateless) append(out, wrap(`${state} (chosen by the tool): the latch has no states here (see the warning below); settled at ${v2(h.volts)} V`, REPORT_COLUMNS - 2).map((l, i) => (i === 0 ? `  ${l}` : l)));
+      else if (h.stateless) item(`${state} (chosen by the tool): the latch has no states here (see the warning below); settled at ${v2(h.volts)} V`);
       else if (h.held) out.push(`  ${state} (chosen by the tool; --hint picks another state): held at ${v2(h.volts)} V`);
-      else append(out, wrap(`${state} (chosen by the tool): that state does not exist here; settled in ${h.net}=${h.high ? 0 : 1} at ${v2(h.volts)} V`, REPORT_COLUMNS - 2).map((l, i) => (i === 0 ? `  ${l}` : l)));
+      else item(`${state} (chosen by the tool): that state does not exist here; settled in ${h.net}=${h.high ? 0 : 1} at ${v2(h.volts)} V`);
     }
   }
   for (const l of op.forcedLatches) {

@@ -48,7 +48,7 @@ describe('tubemargin solve', () => {
     expect(r.nodes['bed[3]/on']).toBeGreaterThan(15);
   });
 
-  it('exits 1 when the hinted state does not exist: a latch whose pull-downs return to 0 V holds nothing', async () => {
+  it('exits 1 when the hinted state does not exist: a latch whose pull-downs return to 0 V holds nothing (common practice, no source)', async () => {
     // Both grids return to 0 V, so neither can be held below cutoff: both sections conduct,
     // both grids clamp in grid current, and the pair settles with both plates low, a stable
     // point (positive resistance into either net), not the metastable one.
