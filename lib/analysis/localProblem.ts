@@ -158,16 +158,26 @@ export class LocalProblem {
     this.apply(values);
     const sys = this.system;
     const x = this.x;
-    if (this.warm && sys.newton(x, this.settings).converged && this.accepted(sys.trueResidual(x))) return true;
+    if (this.warm && this.settled(sys.newton(x, this.settings))) return true;
     sys.devicesOff(x, this.settings);
-    let ok = sys.newton(x, this.settings).converged;
-    if (!ok) {
-      // gmin stepping: each stage starts from the last.
-      sys.devicesOff(x, this.settings);
-      ok = [1e-3, 1e-5, 1e-7, 1e-9, 1e-12].every((gmin) => sys.newton(x, { ...this.settings, gmin, maxIterations: 200 }).converged);
-    }
+    const first = sys.newton(x, this.settings);
+    if (first.converged) return (this.warm = this.settled(first));
+    // gmin stepping: each stage starts from the last.
+    sys.devicesOff(x, this.settings);
+    const ok = [1e-3, 1e-5, 1e-7, 1e-9, 1e-12].every((gmin) => sys.newton(x, { ...this.settings, gmin, maxIterations: 200 }).converged);
     this.warm = ok && this.accepted(sys.trueResidual(x));
     return this.warm;
+  }
+
+  /**
+   * Whether Newton's run ended on an accepted solution. The residual Newton measured at the
+   * point it accepted, gmin's share added, already bounds the real circuit's: no second
+   * assembly unless that bound exceeds the limit.
+   */
+  private settled(run: { converged: boolean; residual: number }): boolean {
+    if (!run.converged) return false;
+    if (run.residual + this.settings.gmin * largestMagnitude(this.x) <= RESIDUAL_LIMIT) return this.accepted(0);
+    return this.accepted(this.system.trueResidual(this.x));
   }
 
   /**
@@ -195,16 +205,18 @@ export class LocalProblem {
     const x = this.x;
     x.set(start);
     const first = sys.newton(x, { ...this.settings, stepTolerance: 1e-6 });
-    if (first.converged) {
-      // The residual Newton measured at the accepted point, gmin's share added, already
-      // bounds the real circuit's: no second assembly unless that bound exceeds 1 nA.
-      if (first.residual + this.settings.gmin * largestMagnitude(x) <= RESIDUAL_LIMIT) return (this.warm = this.accepted(0));
-      return (this.warm = this.accepted(sys.trueResidual(x)));
-    }
+    if (first.converged) return (this.warm = this.settled(first));
     x.set(start);
     const ok = [1e-6, 1e-8, 1e-10, 1e-12].every((gmin) => sys.newton(x, { ...this.settings, gmin, maxIterations: 200 }).converged);
     this.warm = ok && this.accepted(sys.trueResidual(x));
     return this.warm;
+  }
+
+  /** Starts the next `solve` from `x`, a solution of this problem at nearby values (or a guess made from such solutions). */
+  startFrom(x: ArrayLike<number>): void {
+    if (this.shorted) return;
+    this.x.set(x);
+    this.warm = true;
   }
 
   /** Voltage of terminal `t` in the last solution. */

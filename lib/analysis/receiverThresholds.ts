@@ -47,10 +47,11 @@ export function sweepRange(chain: LevelChain, driving: string): { lo: number; hi
 export function sweepCurve(problem: LocalProblem, values: Float64Array, swept: number, from: number, to: number): TransferCurve | undefined {
   const vin: number[] = [];
   const vout: number[] = [];
+  const starts = new SweepStarts(problem, SWEEP_POINTS);
   for (let k = 0; k < SWEEP_POINTS; k++) {
     const v = from + ((to - from) * k) / (SWEEP_POINTS - 1);
     values[swept] = v;
-    if (!problem.solve(values)) return undefined;
+    if (!starts.solve(values, k)) return undefined;
     vin.push(v);
     vout.push(problem.volts(problem.target));
   }
@@ -104,6 +105,53 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
   return found && { stage: stage.name, section: receiver.section, ...found };
 }
 
+/**
+ * The solutions of a sweep's points, kept by point, so that each point is solved from its
+ * nearest solved neighbour, carried on along the line through that neighbour and the one
+ * beyond it when both are solved and the point is at most two steps away: the same
+ * solution (a receiver's local circuit has one) in fewer Newton iterations than from
+ * whatever point was solved last.
+ */
+class SweepStarts {
+  /** Point k's solution at [k·size, (k + 1)·size), where `solved[k]`. */
+  private readonly kept: Float64Array;
+  private readonly solved: Uint8Array;
+  private readonly size: number;
+  private readonly guess: Float64Array;
+  constructor(
+    private readonly problem: LocalProblem,
+    points: number,
+  ) {
+    this.size = problem.solution.length;
+    this.kept = new Float64Array(points * this.size);
+    this.solved = new Uint8Array(points);
+    this.guess = new Float64Array(this.size);
+  }
+
+  /** Solves point `k` at `values`; false where it does not solve. */
+  solve(values: Float64Array, k: number): boolean {
+    const { kept, solved, size, guess } = this;
+    let near = -1;
+    for (let d = 1; d < solved.length && near < 0; d++) {
+      if (solved[k - d]) near = k - d;
+      else if (solved[k + d]) near = k + d;
+    }
+    if (near >= 0) {
+      const beyond = near + Math.sign(near - k);
+      const distance = Math.abs(k - near);
+      const a = near * size;
+      const b = beyond * size;
+      if (solved[beyond] && distance <= 2) for (let i = 0; i < size; i++) guess[i] = kept[a + i]! + (kept[a + i]! - kept[b + i]!) * distance;
+      else guess.set(kept.subarray(a, a + size));
+      this.problem.startFrom(guess);
+    }
+    if (!this.problem.solve(values)) return false;
+    kept.set(this.problem.solution, k * size);
+    solved[k] = 1;
+    return true;
+  }
+}
+
 /** Rounds of the corner search for a threshold's extreme at most (each moves every parameter once). */
 export const THRESHOLD_ROUNDS = 4;
 
@@ -113,13 +161,14 @@ export const THRESHOLD_ROUNDS = 4;
  * with the curve's steepness as well as with its position, so a corner that shifts the
  * curve earliest need not give the lowest VIL. Each part in turn is moved to its band's
  * other end and kept there where that makes the point worse, for up to
- * `THRESHOLD_ROUNDS` rounds or until no move does. Each corner tried is swept whole, and
- * every part is tried: a point can jump to another stretch of the curve or sit on a short
- * steep one, which coarser sweeps or a local search from the last point missed by volts
- * in the oracle family, and parts that hardly move the output at the middle of the swing
- * can still move it by volts. A corner whose gain never reaches 1 keeps its curve
- * with no points (the stage cannot restore levels there). The curve at `start` comes
- * back too. Undefined where a sweep does not solve.
+ * `THRESHOLD_ROUNDS` rounds or until no move does. Each corner tried is swept as far as
+ * its point needs (`trialPoint`), on the points of a whole sweep, and every part is tried:
+ * a point can jump to another stretch of the curve or sit on a short steep one, which
+ * coarser sweeps or a local search from the last point missed by volts in the oracle
+ * family, and parts that hardly move the output at the middle of the swing can still move
+ * it by volts. The corner kept is swept whole at the end. A corner whose gain never
+ * reaches 1 keeps its curve with no points (the stage cannot restore levels there). The
+ * curve at `start` comes back too. Undefined where a sweep does not solve.
  */
 function extremeCorner(
   problem: LocalProblem,
@@ -128,16 +177,22 @@ function extremeCorner(
   range: { from: number; to: number },
   start: Float64Array,
   which: 'vil' | 'vih',
+  sweepAll = false,
 ): { values: Float64Array; curve: TransferCurve; points: { vil: number; vih: number } | undefined; start: TransferCurve } | undefined {
   const sign = which === 'vil' ? 1 : -1;
-  const at = (values: Float64Array, bound?: number) => {
-    const curve = bound === undefined ? sweepCurve(problem, Float64Array.from(values), swept, range.from, range.to) : trialCurve(problem, Float64Array.from(values), swept, range, which, bound);
-    return curve && curve !== 'no better' ? { values, curve, points: unityGainPoints(curve.vin, curve.vout) } : undefined;
+  const whole = (values: Float64Array) => {
+    const curve = sweepCurve(problem, Float64Array.from(values), swept, range.from, range.to);
+    return curve && { values, curve, points: unityGainPoints(curve.vin, curve.vout) };
   };
-  const first = at(start);
+  const trial = (values: Float64Array, bound: number) => {
+    if (!sweepAll) return trialPoint(problem, Float64Array.from(values), swept, range, which, bound);
+    const t = whole(values);
+    return t?.points?.[which];
+  };
+  const first = whole(start);
   if (!first?.points) return first && { ...first, start: first.curve };
   const tried = bands.map((_, i) => i).filter((i) => i !== swept && bands[i]!.high > bands[i]!.low);
-  let best = first;
+  let best = { values: start, point: first.points[which] };
   // Parts in turn, round after round; a part tried since the last move was tried at the
   // values that stand, so the search ends a full turn after its last move.
   let sinceMove = 0;
@@ -146,30 +201,46 @@ function extremeCorner(
     const b = bands[i]!;
     const values = Float64Array.from(best.values);
     values[i] = values[i] === b.low ? b.high : b.low;
-    const t = at(values, best.points![which]);
-    if (t?.points && sign * t.points[which] < sign * best.points![which]) {
-      best = t;
+    const point = trial(values, best.point);
+    if (typeof point === 'number' && sign * point < sign * best.point) {
+      best = { values, point };
       sinceMove = 1;
     } else sinceMove++;
   }
-  return { ...best, start: first.curve };
+  const kept = best.values === start ? first : whole(best.values);
+  if (kept) return { ...kept, start: first.curve };
+  // The corner kept does not solve at a point its trial never reached: the search again,
+  // every corner tried swept whole, so that a corner that does not sweep is never kept.
+  return sweepAll ? undefined : extremeCorner(problem, bands, swept, range, start, which, true);
 }
 
 /**
- * The transfer curve of a trial corner in `extremeCorner`, swept from the end its point
- * `which` is measured from (VIL from the lowest input up, VIH from the highest down) and
- * abandoned, as \`'no better'\`, as soon as the points swept show that the whole curve's
- * point cannot pass \`bound\` (VIL below it, VIH above it): the first −1 crossing seen
- * decides that, and without one the crossing still to come lies beyond the last midpoint
- * swept. A curve that can pass it is swept whole, on the same points as \`sweepCurve\`, so
- * the search keeps exactly the corners a whole sweep of each would: it only skips the part
- * of a losing corner's curve that cannot change its verdict. Undefined where a point does
- * not solve.
+ * The unity-gain point `which` of a trial corner in `extremeCorner` where it passes
+ * \`bound\` (VIL below it, VIH above it), else \`'no better'\`. The curve is swept, on
+ * the points of \`sweepCurve\`, from the end its point is measured from (VIL from the
+ * lowest input up, VIH from the highest down), and only as far as decides it: the first −1
+ * crossing seen is the point (unityGainPoints' VIL is the first crossing, its VIH the last),
+ * and without one the crossing still to come lies beyond the last midpoint swept, so the
+ * point cannot pass the bound. The search so keeps exactly the corners a whole sweep of
+ * each would. The flat stretch before the last two steps short of the bound is passed on
+ * few points where it can be (`flatStretch`), the steps beside the bound one by one. A VIH
+ * curve still at a slope of −1 at its top with no crossing is swept whole, as only the
+ * whole curve tells its point. Undefined where a point does not solve.
  */
-export function trialCurve(problem: LocalProblem, values: Float64Array, swept: number, range: { from: number; to: number }, which: 'vil' | 'vih', bound: number): TransferCurve | 'no better' | undefined {
+export function trialPoint(problem: LocalProblem, values: Float64Array, swept: number, range: { from: number; to: number }, which: 'vil' | 'vih', bound: number): number | 'no better' | undefined {
   const n = SWEEP_POINTS;
-  const vin = new Array<number>(n);
-  const vout = new Array<number>(n);
+  const vin = new Array<number>(n).fill(Number.NaN);
+  const vout = new Array<number>(n).fill(Number.NaN);
+  const at = (k: number) => range.from + ((range.to - range.from) * k) / (n - 1);
+  const starts = new SweepStarts(problem, n);
+  const solved = (k: number) => {
+    if (!Number.isNaN(vout[k]!)) return true;
+    values[swept] = at(k);
+    if (!starts.solve(values, k)) return false;
+    vin[k] = values[swept]!;
+    vout[k] = problem.volts(problem.target);
+    return true;
+  };
   const slope = (i: number) => (vout[i + 1]! - vout[i]!) / (vin[i + 1]! - vin[i]!);
   const mid = (i: number) => (vin[i]! + vin[i + 1]!) / 2;
   // Where the crossing between slopes i and i + 1 lies, as unityGainPoints interpolates it.
@@ -179,29 +250,57 @@ export function trialCurve(problem: LocalProblem, values: Float64Array, swept: n
     const t = s0 === s1 ? 0.5 : s0 / (s0 - s1);
     return mid(i) + t * (mid(i + 1) - mid(i));
   };
-  let better = false;
-  for (let j = 0; j < n; j++) {
+  for (let j = flatStretch(n, at, solved, vout, which, bound); j < n; j++) {
     const k = which === 'vil' ? j : n - 1 - j;
-    values[swept] = range.from + ((range.to - range.from) * k) / (n - 1);
-    if (!problem.solve(values)) return undefined;
-    vin[k] = values[swept]!;
-    vout[k] = problem.volts(problem.target);
-    if (better || j === 0) continue;
+    if (!solved(k)) return undefined;
+    if (j === 0) continue;
     if (which === 'vil') {
       // Slopes 0 … k − 1 known: VIL is the input where the slope first reaches −1.
       const point = k === 1 ? (slope(0) <= -1 ? vin[0]! : undefined) : slope(k - 2) > -1 && slope(k - 1) <= -1 ? crossing(k - 2) : undefined;
-      if (point !== undefined) {
-        if (point >= bound) return 'no better';
-        better = true;
-      } else if (mid(k - 1) >= bound) return 'no better';
+      if (point !== undefined) return point < bound ? point : 'no better';
+      if (mid(k - 1) >= bound) return 'no better';
     } else {
       // Slopes k … n − 2 known: VIH is the input where the slope last leaves −1 (the top input where it never does).
       const point = k < n - 2 && slope(k) <= -1 && slope(k + 1) > -1 ? crossing(k) : undefined;
-      if (point !== undefined) {
-        if (point <= bound) return 'no better';
-        better = true;
-      } else if (mid(k) <= bound && (slope(n - 2) > -1 || vin[n - 1]! <= bound)) return 'no better';
+      if (point !== undefined) return point > bound ? point : 'no better';
+      if (mid(k) <= bound && (slope(n - 2) > -1 || vin[n - 1]! <= bound)) return 'no better';
     }
   }
-  return { vin, vout };
+  for (let k = 0; k < n; k++) if (!solved(k)) return undefined;
+  const points = unityGainPoints(vin, vout);
+  return which === 'vih' && points && points.vih > bound ? points.vih : 'no better';
+}
+
+/**
+ * How many of `trialPoint`'s points, counted from the end it sweeps from, can be passed
+ * over: the stretch up to two steps short of where it would give up against \`bound\` is
+ * shown, on few points, to have every slope between neighbouring sweep points above −1, so
+ * no unity-gain point lies in it and the sweep may go on from its far end (whose point and
+ * the one before are solved, as the crossing test there needs). A stretch whose ends are
+ * solved is passed whole when its output falls by less than one sweep step of input: a
+ * transfer curve of an inverting stage does not rise with its input (its plate current
+ * grows with its grid, and its grid with its input), so no step inside it falls further
+ * than the whole; any other stretch is halved, down to single steps, where the slope is
+ * tested exactly as the sweep tests it. 0 (sweep every point) where a step in the stretch
+ * is as steep as −1, where a point does not solve, or where the stretch is too short.
+ */
+function flatStretch(n: number, at: (k: number) => number, solved: (k: number) => boolean, vout: number[], which: 'vil' | 'vih', bound: number): number {
+  // The point (counted from the sweep's own end) at which trialPoint gives up when no
+  // crossing comes first: VIL's first step whose midpoint reaches the bound, VIH's last
+  // step whose midpoint is at or below it.
+  let stop = 1;
+  while (stop < n && (which === 'vil' ? (at(stop - 1) + at(stop)) / 2 < bound : (at(n - 1 - stop) + at(n - stop)) / 2 > bound)) stop++;
+  const last = stop - 2;
+  if (stop >= n || last < 2) return 0;
+  const point = (j: number) => (which === 'vil' ? j : n - 1 - j);
+  const step = Math.abs(at(1) - at(0));
+  const flat = (lo: number, hi: number): boolean => {
+    if (!solved(point(lo)) || !solved(point(hi))) return false;
+    const fall = which === 'vil' ? vout[point(lo)]! - vout[point(hi)]! : vout[point(hi)]! - vout[point(lo)]!;
+    if (hi === lo + 1) return fall / Math.abs(at(point(hi)) - at(point(lo))) < 1;
+    if (fall >= 0 && fall < 0.999 * step) return true;
+    const middle = (lo + hi) >> 1;
+    return flat(lo, middle) && flat(middle, hi);
+  };
+  return flat(0, last) && solved(point(last - 1)) ? last + 1 : 0;
 }
