@@ -1,5 +1,5 @@
 import { buildStageGraph, checkMargins, loadDesign, solveOperatingPoint, type CheckOptions, type CheckResult, type Design, type StageGraph } from '../lib/index.js';
-import { generateRegister, generateVariedRegister } from './generate.js';
+import { generateRegister, generateVariedRegister, VARIED_SEED } from './generate.js';
 
 function median(xs: number[]): number {
   const s = [...xs].sort((a, b) => a - b);
@@ -84,8 +84,6 @@ export function benchCheck(sizes: number[], runs = 7): CheckBenchRow[] {
   });
 }
 
-/** The seed of the varied registers the bench checks (`generateVariedRegister`). */
-export const VARIED_SEED = 1;
 
 /** How many weak nets the refinement row plants in the varied register. */
 export const WEAK_NETS = 4;

@@ -117,6 +117,9 @@ function kilohms(ohms: number): string {
   return `${Number((ohms / 1e3).toPrecision(3))} k`;
 }
 
+/** The seed of the varied registers the bench measures (`generateVariedRegister`). */
+export const VARIED_SEED = 1;
+
 /**
  * The register of `generateRegister` as a real machine is: the same ring of latch cells
  * and clocked copy gates, with exactly `stages` stages (from 8 on; fewer make one cell of
