@@ -135,7 +135,13 @@ export class LevelChain {
     this.railMin = lowest(ends);
     this.railMax = highest(ends);
     for (const n of graph.nets) this.nets.set(n.name, this.describe(n.name, n.kind === 'input'));
-    this.order = stronglyConnected(graph.graph).reverse().flat();
+    // Loops after what feeds them, and within a loop each net in the order a walk along
+    // its signal flow first reaches it (Tarjan gives a loop's nets the other way round):
+    // a net solved after its drivers in the same sweep sees their new levels, so fewer
+    // rounds of the loop iteration re-solve it.
+    this.order = stronglyConnected(graph.graph)
+      .reverse()
+      .flatMap((loop) => [...loop].reverse());
   }
 
   private describe(name: string, input: boolean): ChainNet {
