@@ -1,6 +1,5 @@
 import type { Part } from '../design/model.js';
 import type { LevelChain } from './levelChain.js';
-import { lowest } from '../lists.js';
 
 /** One standard load: the input divider and grid of the design's most common receiving input. */
 export interface StandardLoad {
@@ -70,10 +69,9 @@ export function fanoutHeadroom(chain: LevelChain, net: string, load: StandardLoa
       parts.push({ type: 'tube', name: `fanout:${j}.section`, model: load.model, plate: load.cathode, grid, cathode: load.cathode });
     }
     const probe = chain.withParts(n, parts);
-    let margin = Infinity;
-    if (l.canHigh) margin = Math.min(margin, lowest(cases.high.map((c) => (chain.solveCase(c, probe).worst ?? -Infinity) - thresholds.vih)));
-    if (l.canLow) margin = Math.min(margin, lowest(cases.low.map((c) => thresholds.vil - (chain.solveCase(c, probe).worst ?? Infinity))));
-    return margin >= required;
+    // Case by case: the first that misses the margin decides.
+    if (l.canHigh && !cases.high.every((c) => (chain.solveCase(c, probe).worst ?? -Infinity) - thresholds.vih >= required)) return false;
+    return !l.canLow || cases.low.every((c) => thresholds.vil - (chain.solveCase(c, probe).worst ?? Infinity) >= required);
   };
   if (!passes(0)) return 0;
   let good = 0;
