@@ -131,6 +131,27 @@ export class LocalProblem {
     this.settings = { gmin: 1e-12, sourceScale: 1, maxStep: Math.max(1, (highest(rails) - lowest(rails)) / 10), maxIterations: 100 };
   }
 
+  /**
+   * Whether parameter `i` can move no voltage of the region whatever its value: a part not
+   * in the circuit, a resistor between two held nodes, or a section's emission where its
+   * plate, cathode and screen are all held (a grid the region feeds, whose plate is a
+   * boundary: emission scales the plate and screen currents, not the grid's, and those
+   * flow between fixed voltages).
+   */
+  inert(i: number): boolean {
+    const slot = this.slots[i]!;
+    if (slot < 0) return true;
+    const c = this.circuit;
+    switch (this.kinds[i]!) {
+      case 'resistor':
+        return c.gA[slot]! < 0 && c.gB[slot]! < 0;
+      case 'perveance':
+        return c.tA[slot]! < 0 && c.tK[slot]! < 0 && (!c.hasScreen[slot] || c.tS[slot]! < 0);
+      default:
+        return false;
+    }
+  }
+
   /** Writes parameter values (in `regionParameters` order) into the circuit. */
   apply(values: ArrayLike<number>): void {
     const c = this.circuit;

@@ -191,7 +191,8 @@ function extremeCorner(
   };
   const first = whole(start);
   if (!first?.points) return first && { ...first, start: first.curve };
-  const tried = bands.map((_, i) => i).filter((i) => i !== swept && bands[i]!.high > bands[i]!.low);
+  // A part that cannot move the curve (`LocalProblem.inert`) is never tried: its trial would never move.
+  const tried = bands.map((_, i) => i).filter((i) => i !== swept && bands[i]!.high > bands[i]!.low && !problem.inert(i));
   let best = { values: start, point: first.points[which] };
   // Parts in turn, round after round; a part tried since the last move was tried at the
   // values that stand, so the search ends a full turn after its last move.

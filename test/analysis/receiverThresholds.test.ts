@@ -2,7 +2,8 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { familyDesigns } from '../../bench/family.js';
 import { familyDesign } from '../../bench/familyOracle.js';
-import { AGEING_SCENARIOS, buildStageGraph, checkMargins, LevelChain, WholeDesign } from '../../lib/index.js';
+import { generateVariedRegister } from '../../bench/generate.js';
+import { AGEING_SCENARIOS, buildStageGraph, checkMargins, LevelChain, loadDesign, WholeDesign } from '../../lib/index.js';
 import { positionsAfter, withPositions } from '../../lib/analysis/cornerSearch.js';
 import { thresholdsAt } from '../../lib/analysis/refineNets.js';
 import type { LocalProblem } from '../../lib/analysis/localProblem.js';
@@ -108,4 +109,36 @@ describe('a trial corner swept only as far as it can matter', () => {
     expect(trialPoint(c.problem, new Float64Array(1), 0, { from: 0, to: 10 }, 'vil', 6.1)).toBe('no better');
     expect(c.solves).toBeLessThan(40);
   });
+});
+
+describe('parts a threshold search never tries', () => {
+  it('are those that move no voltage of the region: flipped to their other end, every node stays where it was, over a family of small designs and a varied register', () => {
+    // Oracle: the local problem solved again with the part at the other end of its band
+    // (the solver itself, Newton from the same start): an inert part leaves every unknown
+    // unchanged, and every region with fan-out grids has some (their sections' emission).
+    const designs = [...familyDesigns(2026016, 12).map((fd) => familyDesign(fd)), loadDesign('varied.tube', generateVariedRegister(24, 3)).design!];
+    let inert = 0;
+    for (const design of designs) {
+      const chain = new LevelChain(design, buildStageGraph(design), AGEING_SCENARIOS[0]!);
+      chain.run();
+      for (const net of chain.nets.values()) {
+        if (net.polarity === 'input') continue;
+        const { problem } = chain.problem(net.region, undefined, net.kind);
+        const bands = chain.bandsOf(net, undefined);
+        const nominal = Float64Array.from(bands, (b) => b.nominal);
+        if (!problem.solve(nominal)) continue;
+        const before = Float64Array.from(problem.solution);
+        bands.forEach((b, i) => {
+          if (!problem.inert(i) || b.high === b.low) return;
+          inert++;
+          const moved = Float64Array.from(nominal);
+          moved[i] = b.high;
+          problem.startFrom(before);
+          expect(problem.solve(moved)).toBe(true);
+          for (let k = 0; k < before.length; k++) expect(Math.abs(problem.solution[k]! - before[k]!), `${net.name}: parameter ${i}`).toBeLessThan(1e-12);
+        });
+      }
+    }
+    expect(inert).toBeGreaterThanOrEqual(20);
+  }, 120_000);
 });
