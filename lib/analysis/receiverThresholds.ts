@@ -67,8 +67,12 @@ export function sweepCurve(problem: LocalProblem, values: Float64Array, swept: n
  * from the corner the linearised sensitivity of the output at the middle of the input
  * swing picks (`extremeCorner`). Undefined for a receiver that is not an inverting stage, or whose stage
  * can never go high (another input holds it low).
+ *
+ * `straightforward` is the reference the tests hold the search to: worked out afresh
+ * (nothing shared with alike receivers), every part tried and every corner tried swept
+ * whole, with none of the shortcuts `trialPoint` takes.
  */
-export function receiverThresholds(chain: LevelChain, driving: string, receiver: Receiver): ReceiverThresholds | undefined {
+export function receiverThresholds(chain: LevelChain, driving: string, receiver: Receiver, straightforward = false): ReceiverThresholds | undefined {
   const stage = receiver.output === undefined ? undefined : chain.nets.get(receiver.output);
   if (!stage || stage.polarity !== 'inverting' || !chain.levels.get(stage.name)!.canHigh) return undefined;
   const on = stage.drivers.indexOf(receiver.section);
@@ -78,7 +82,7 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
   // The stage's class, or else its region kind and the levels around it, fix the curves: stages alike share them.
   const position = stage.driverPositions[on];
   const memoKey = () => `thresholds|${stage.kind}|${position}|${boundary}|${chain.levelKey(stage, on, driving)}|${from}|${to}`;
-  const found = chain.memoTwice(`thresholds-class|${chain.classOf(stage.name)}|${position}|${boundary}`, memoKey, () => {
+  const work = () => {
     const { problem } = chain.problem(stage.region, undefined, stage.kind);
     const bands = chain.bandsOf(stage, on, driving);
     const swept = stage.parameters.length - stage.region.boundaries.length + boundary;
@@ -89,8 +93,8 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
     const corner = (down: boolean) =>
       Float64Array.from(bands, (b, i) => (i === swept ? 0 : (at.slopes[i]! > 0) === down ? b.low : b.high));
     const nominalCurve = sweepCurve(problem, nominal, swept, from, to);
-    const early = extremeCorner(problem, bands, swept, { from, to }, corner(true), 'vil');
-    const late = extremeCorner(problem, bands, swept, { from, to }, corner(false), 'vih');
+    const early = extremeCorner(problem, bands, swept, { from, to }, corner(true), 'vil', straightforward);
+    const late = extremeCorner(problem, bands, swept, { from, to }, corner(false), 'vih', straightforward);
     if (!nominalCurve || !early || !late) return undefined;
     return {
       key: memoKey(),
@@ -101,7 +105,8 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
       extremes: [early.start, late.start, early.curve, late.curve].filter((c, i, all) => all.indexOf(c) === i),
       corners: { early: early.values, late: late.values },
     };
-  });
+  };
+  const found = straightforward ? work() : chain.memoTwice(`thresholds-class|${chain.classOf(stage.name)}|${position}|${boundary}`, memoKey, work);
   return found && { stage: stage.name, section: receiver.section, ...found };
 }
 
@@ -168,7 +173,9 @@ export const THRESHOLD_ROUNDS = 4;
  * family, and parts that hardly move the output at the middle of the swing can still move
  * it by volts. The corner kept is swept whole at the end. A corner whose gain never
  * reaches 1 keeps its curve with no points (the stage cannot restore levels there). The
- * curve at `start` comes back too. Undefined where a sweep does not solve.
+ * curve at `start` comes back too. Undefined where a sweep does not solve. With
+ * `sweepAll`, every corner tried is swept whole and every part is tried: the
+ * straightforward search, which keeps the same corner.
  */
 function extremeCorner(
   problem: LocalProblem,
@@ -191,8 +198,8 @@ function extremeCorner(
   };
   const first = whole(start);
   if (!first?.points) return first && { ...first, start: first.curve };
-  // A part that cannot move the curve (`LocalProblem.inert`) is never tried: its trial would never move.
-  const tried = bands.map((_, i) => i).filter((i) => i !== swept && bands[i]!.high > bands[i]!.low && !problem.inert(i));
+  // A part that cannot move the curve (`LocalProblem.inert`) is not tried (its trial would never move) but in the straightforward search.
+  const tried = bands.map((_, i) => i).filter((i) => i !== swept && bands[i]!.high > bands[i]!.low && (sweepAll || !problem.inert(i)));
   let best = { values: start, point: first.points[which] };
   // Parts in turn, round after round; a part tried since the last move was tried at the
   // values that stand, so the search ends a full turn after its last move.
