@@ -68,10 +68,13 @@ export function fanoutHeadroom(chain: LevelChain, net: string, load: StandardLoa
       parts.push({ type: 'resistor', name: `fanout:${j}.pulldown`, a: grid, b: load.pulldownRail, ohms: load.pulldownOhms, tol: load.pulldownTol, watts: 1 });
       parts.push({ type: 'tube', name: `fanout:${j}.section`, model: load.model, plate: load.cathode, grid, cathode: load.cathode });
     }
-    const probe = chain.withParts(n, parts);
-    // Case by case: the first that misses the margin decides.
-    if (l.canHigh && !cases.high.every((c) => (chain.solveCase(c, probe).worst ?? -Infinity) - thresholds.vih >= required)) return false;
-    return !l.canLow || cases.low.every((c) => thresholds.vil - (chain.solveCase(c, probe).worst ?? Infinity) >= required);
+    // A probe's regions are asked about once: the chain drops them after (`scratch`).
+    return chain.scratch(() => {
+      const probe = chain.withParts(n, parts);
+      // Case by case: the first that misses the margin decides.
+      if (l.canHigh && !cases.high.every((c) => (chain.solveCase(c, probe).worst ?? -Infinity) - thresholds.vih >= required)) return false;
+      return !l.canLow || cases.low.every((c) => thresholds.vil - (chain.solveCase(c, probe).worst ?? Infinity) >= required);
+    });
   };
   if (!passes(0)) return 0;
   let good = 0;

@@ -121,7 +121,10 @@ export class LevelChain {
   private readonly results = new Map<string, CaseResult>();
   /** Region keys interned to small numbers, so cache keys stay short. */
   private readonly kinds = new Map<string, number>();
+  private nextKind = 0;
   private readonly memos = new Map<string, unknown>();
+  /** What `scratch` work has added to the caches, to drop when it ends. */
+  private added: { kinds: string[]; problems: string[]; results: string[] } | undefined;
   /** Local solves done (cache misses), for the bench. */
   solves = 0;
 
@@ -175,8 +178,31 @@ export class LevelChain {
   /** The region's key as a small number, the same for every region with the same key. */
   kindOf(region: Region): number {
     let kind = this.kinds.get(region.key);
-    if (kind === undefined) this.kinds.set(region.key, (kind = this.kinds.size));
+    if (kind === undefined) {
+      this.kinds.set(region.key, (kind = this.nextKind++));
+      this.added?.kinds.push(region.key);
+    }
     return kind;
+  }
+
+  /**
+   * Runs `work` and then drops what it added to the chain's caches (region kinds, local
+   * problems, case results): for one-off probes that no later question asks again, such
+   * as a fan-out headroom's regions with extra loads, which would otherwise hold most of a
+   * large design's memory. Kinds are never numbered again, so no result kept can be
+   * mistaken for a dropped one.
+   */
+  scratch<T>(work: () => T): T {
+    if (this.added) return work();
+    const added = (this.added = { kinds: [], problems: [], results: [] });
+    try {
+      return work();
+    } finally {
+      this.added = undefined;
+      for (const k of added.kinds) this.kinds.delete(k);
+      for (const k of added.problems) this.problems.delete(k);
+      for (const k of added.results) this.results.delete(k);
+    }
   }
 
   /** The switches and buttons that tie a net to a rail or ground, grouped by rail. */
@@ -203,6 +229,7 @@ export class LevelChain {
     if (!problem) {
       problem = new LocalProblem(this.design, region, this.scenario, close);
       this.problems.set(key, problem);
+      this.added?.problems.push(key);
     }
     return { problem, key };
   }
@@ -534,6 +561,7 @@ export class LevelChain {
     const found = vertex && searchAllCorners(bands, judged, vertex, (v) => (problem.solve(v) ? problem.volts(problem.target) : undefined), localBands(problem.circuit.n));
     const result: CaseResult = { nominal: found?.nominal ?? NaN, worst: found?.worst, sense: judged, bands, vertex: found?.vertex, effects: found?.effects };
     this.results.set(cacheKey, result);
+    this.added?.results.push(cacheKey);
     return result;
   }
 
