@@ -45,7 +45,7 @@ export interface CheckOptions {
   narrow?: boolean;
   /** The work refinement may spend (`CORNER_WORK` when absent): a harness that runs thousands of checks sets less. */
   cornerWork?: number;
-  /** Told as each phase goes on: the rounds of levels, the receivers, the latches, the rail boxes and the corners. */
+  /** Told as each phase goes on: the rounds of levels, the receivers, the nets' margins and fan-out headroom, the latches, the rail boxes and the corners. */
   onProgress?: Progress;
 }
 
@@ -238,7 +238,10 @@ export function checkMargins(design: Design, options: CheckOptions = {}): CheckR
   }
 
   const inLoop = new Set(graph.loops.flatMap((l) => l.nets));
-  const nets = graph.nets.map((n) => judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, flatInputs, inLoop, options.headroom ?? true, required, load, designWide));
+  const nets = graph.nets.map((n, i) => {
+    options.onProgress?.('margins and fan-out headroom', i, graph.nets.length);
+    return judgeNet(chain, n.name, n.fanout, thresholds.get(n.name)!, flatInputs, inLoop, options.headroom ?? true, required, load, designWide);
+  });
   nets.sort(weakestFirst);
   // The parameters behind the weakness, for every failing net and the three weakest classes.
   const weakestClasses = new Set([...new Set(nets.map((n) => n.classId))].slice(0, 3));

@@ -62,7 +62,7 @@ describe('progress of long runs (issue #16)', () => {
     expect(rounds[0]).toBe('levels, round 1');
     // Then the phases after the levels, in the order check runs them.
     const after = [...new Set(calls.map(([phase]) => phase).filter((p) => !p.startsWith('levels, round ')))];
-    expect(after.slice(0, 3)).toEqual(['levels of the whole design', 'receivers', 'latches']);
+    expect(after.slice(0, 4)).toEqual(['levels of the whole design', 'receivers', 'margins and fan-out headroom', 'latches']);
     // The same check without a listener gives the same verdict and levels: progress only watches.
     const quiet = checkMargins(d);
     if (!('verdict' in quiet)) throw new Error('no check');
