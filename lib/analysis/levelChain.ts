@@ -84,6 +84,12 @@ export interface SectionGrid {
   openVgk: number;
 }
 
+/** The case keys the rounds of the loop iteration used: every one, and each net's in its last round. */
+interface CaseKeys {
+  all: Set<string>;
+  last: Map<string, string[]>;
+}
+
 /** Worst-case levels are rounded outwards to this step, so the monotone iteration around loops ends in finitely many rounds. */
 const LEVEL_STEP = 1e-5;
 /** Rounds of the loop iteration before a loop is declared unsettled. */
@@ -252,6 +258,19 @@ export class LevelChain {
         (readers.get(c) ?? readers.set(c, new Set()).get(c)!).add(name);
       }
     }
+    // Each round's results are keyed by the levels around each net, which only move one
+    // way: a result of a round before a net's last is never asked for again, and is dropped.
+    const used: CaseKeys = { all: new Set(), last: new Map() };
+    try {
+      this.sweep(representatives, readers, used, progress);
+    } finally {
+      const current = new Set([...used.last.values()].flat());
+      for (const key of used.all) if (!current.has(key)) this.results.delete(key);
+    }
+  }
+
+  /** The rounds of the loop iteration (see `run`), recording in `used` the case keys each net used. */
+  private sweep(representatives: string[], readers: Map<string, Set<string>>, used: CaseKeys, progress?: Progress): void {
     let stale = new Set(representatives);
     for (this.rounds = 1; this.rounds <= MAX_ROUNDS; this.rounds++) {
       const next = new Set<string>();
@@ -260,7 +279,7 @@ export class LevelChain {
         progress?.(phase, i, representatives.length);
         if (!stale.has(name)) continue;
         const net = this.nets.get(name)!;
-        if ((net.polarity === 'inverting' || net.polarity === 'follower') && this.updateStage(net)) {
+        if ((net.polarity === 'inverting' || net.polarity === 'follower') && this.updateStage(net, used)) {
           // Readers later in this sweep see the new level now; earlier ones next sweep.
           for (const r of readers.get(name) ?? []) {
             stale.add(r);
@@ -448,9 +467,12 @@ export class LevelChain {
   }
 
   /** Recomputes a stage net's levels from its inputs' present levels; true if anything moved. */
-  private updateStage(net: ChainNet): boolean {
+  private updateStage(net: ChainNet, used: CaseKeys): boolean {
     const l = this.levels.get(net.name)!;
     const cases = this.casesOf(net);
+    const keys = [...cases.high, ...cases.low].map((c) => this.caseKey(c, net));
+    used.last.set(net.name, keys);
+    for (const k of keys) used.all.add(k);
     let moved = false;
     if (cases.high.length > 0) {
       const rs = cases.high.map((c) => this.solveCase(c));
@@ -540,11 +562,17 @@ export class LevelChain {
   }
 
   /** Solves one case of one net: nominal, and the worst vertex for its sense. */
+  /** The key of a case's result: the net's region kind, the conducting driver's position, and the levels around it. */
+  private caseKey(c: LevelCase, net: ChainNet): string {
+    const input = net.polarity === 'input';
+    const position = input ? c.on : c.on === undefined ? undefined : net.driverPositions[c.on];
+    return `${net.kind}#${position}#${this.levelKey(net, input ? undefined : c.on)}`;
+  }
+
   solveCase(c: LevelCase, net: ChainNet = this.nets.get(c.net)!): CaseResult {
     const input = net.polarity === 'input';
     const on = input ? undefined : c.on;
-    const position = input ? c.on : c.on === undefined ? undefined : net.driverPositions[c.on];
-    const cacheKey = `${net.kind}#${position}#${this.levelKey(net, on)}`;
+    const cacheKey = this.caseKey(c, net);
     const hit = this.results.get(cacheKey);
     if (hit) return hit;
     this.solves++;
