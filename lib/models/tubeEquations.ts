@@ -81,6 +81,16 @@ export function sigmoid(z: number): number {
   return e / (1 + e);
 }
 
+/**
+ * x^p for x > 0, as e^(p·ln x): under half the cost of Math.pow in V8, where the tube
+ * equations are a third of a check's time. It differs from Math.pow by the logarithm's
+ * rounding carried through the exponential, a few ulps for the currents of a working tube
+ * and about 1e-13 relative for one cut off to 1e-300 A, far below anything a solve sees.
+ */
+function powerOf(x: number, p: number): number {
+  return Math.exp(p * Math.log(x));
+}
+
 /** How a section differs from its type's nominal. */
 export interface SectionVariation {
   /** Multiplies plate (and screen) current: tube-to-tube spread and ageing. */
@@ -148,7 +158,7 @@ export function evaluateTube(p: Float64Array, po: number, vgk: number, vak: numb
       if (e1 > 0) {
         const sg = z >= 0 ? 1 / (1 + ez) : ez / (1 + ez);
         const scale = (2 * perveance) / p[po + P.kg1]!;
-        const pw = Math.pow(e1, ex - 1);
+        const pw = powerOf(e1, ex - 1);
         ia = scale * pw * e1;
         const dIa = scale * ex * pw;
         iaVg = dIa * ((vak * sg) / s);
@@ -166,7 +176,7 @@ export function evaluateTube(p: Float64Array, po: number, vgk: number, vak: numb
       if (e1 > 0) {
         const sg = z >= 0 ? 1 / (1 + ez) : ez / (1 + ez);
         const scale = (2 * perveance) / p[po + P.kg1]!;
-        const pw = Math.pow(e1, ex - 1);
+        const pw = powerOf(e1, ex - 1);
         const a = scale * pw * e1;
         const dA = scale * ex * pw;
         const aVg = dA * sg;
@@ -198,7 +208,7 @@ export function evaluateTube(p: Float64Array, po: number, vgk: number, vak: numb
     if (x > 0 && vsk > 0) {
       const ex = p[po + P.ex]!;
       const kg2 = p[po + P.kg2]!;
-      const pw = Math.pow(x, ex - 1);
+      const pw = powerOf(x, ex - 1);
       const law = (perveance * pw * x) / kg2;
       const d = (perveance * ex * pw) / kg2;
       const th = Math.tanh(vsk / CHILD_LANGMUIR_KNEE);
