@@ -42,12 +42,12 @@ export function sweepRange(chain: LevelChain, driving: string): { lo: number; hi
 /**
  * A receiving stage's transfer curve: its output (the problem's target) as parameter
  * `swept` (the driving net's level) runs from \`from\` to \`to\`, the other parameters at
- * \`values\`; undefined where a point does not solve.
+ * \`values\`; undefined where a point does not solve. Its points' solutions go to
+ * \`starts\`, for a search to start a neighbouring corner's points from.
  */
-export function sweepCurve(problem: LocalProblem, values: Float64Array, swept: number, from: number, to: number): TransferCurve | undefined {
+export function sweepCurve(problem: LocalProblem, values: Float64Array, swept: number, from: number, to: number, starts = new SweepStarts(problem, SWEEP_POINTS)): TransferCurve | undefined {
   const vin: number[] = [];
   const vout: number[] = [];
-  const starts = new SweepStarts(problem, SWEEP_POINTS);
   for (let k = 0; k < SWEEP_POINTS; k++) {
     const v = from + ((to - from) * k) / (SWEEP_POINTS - 1);
     values[swept] = v;
@@ -113,11 +113,12 @@ export function receiverThresholds(chain: LevelChain, driving: string, receiver:
 /**
  * The solutions of a sweep's points, kept by point, so that each point is solved from its
  * nearest solved neighbour, carried on along the line through that neighbour and the one
- * beyond it when both are solved and the point is at most two steps away: the same
- * solution (a receiver's local circuit has one) in fewer Newton iterations than from
- * whatever point was solved last.
+ * beyond it when both are solved and the point is at most two steps away; failing that,
+ * from the same point of \`seed\` (another corner's sweep, a part away) where it was
+ * solved; failing that, from the nearest point solved. The same solution (a receiver's
+ * local circuit has one) in fewer Newton iterations than from whatever point was solved last.
  */
-class SweepStarts {
+export class SweepStarts {
   /** Point k's solution at [k·size, (k + 1)·size), where `solved[k]`. */
   private readonly kept: Float64Array;
   private readonly solved: Uint8Array;
@@ -126,6 +127,7 @@ class SweepStarts {
   constructor(
     private readonly problem: LocalProblem,
     points: number,
+    private readonly seed?: SweepStarts,
   ) {
     this.size = problem.solution.length;
     this.kept = new Float64Array(points * this.size);
@@ -141,15 +143,15 @@ class SweepStarts {
       if (solved[k - d]) near = k - d;
       else if (solved[k + d]) near = k + d;
     }
-    if (near >= 0) {
-      const beyond = near + Math.sign(near - k);
-      const distance = Math.abs(k - near);
+    const distance = Math.abs(k - near);
+    const beyond = near + Math.sign(near - k);
+    if (near >= 0 && distance <= 2 && solved[beyond]) {
       const a = near * size;
       const b = beyond * size;
-      if (solved[beyond] && distance <= 2) for (let i = 0; i < size; i++) guess[i] = kept[a + i]! + (kept[a + i]! - kept[b + i]!) * distance;
-      else guess.set(kept.subarray(a, a + size));
+      for (let i = 0; i < size; i++) guess[i] = kept[a + i]! + (kept[a + i]! - kept[b + i]!) * distance;
       this.problem.startFrom(guess);
-    }
+    } else if (this.seed?.solved[k]) this.problem.startFrom(this.seed.kept.subarray(k * size, (k + 1) * size));
+    else if (near >= 0) this.problem.startFrom(kept.subarray(near * size, (near + 1) * size));
     if (!this.problem.solve(values)) return false;
     kept.set(this.problem.solution, k * size);
     solved[k] = 1;
@@ -187,16 +189,18 @@ function extremeCorner(
   sweepAll = false,
 ): { values: Float64Array; curve: TransferCurve; points: { vil: number; vih: number } | undefined; start: TransferCurve } | undefined {
   const sign = which === 'vil' ? 1 : -1;
-  const whole = (values: Float64Array) => {
-    const curve = sweepCurve(problem, Float64Array.from(values), swept, range.from, range.to);
+  // Each corner's points start from the best corner's, a part away (`SweepStarts`).
+  const whole = (values: Float64Array, starts: SweepStarts) => {
+    const curve = sweepCurve(problem, Float64Array.from(values), swept, range.from, range.to, starts);
     return curve && { values, curve, points: unityGainPoints(curve.vin, curve.vout) };
   };
-  const trial = (values: Float64Array, bound: number) => {
-    if (!sweepAll) return trialPoint(problem, Float64Array.from(values), swept, range, which, bound);
-    const t = whole(values);
+  const trial = (values: Float64Array, bound: number, starts: SweepStarts) => {
+    if (!sweepAll) return trialPoint(problem, Float64Array.from(values), swept, range, which, bound, starts);
+    const t = whole(values, starts);
     return t?.points?.[which];
   };
-  const first = whole(start);
+  let bestStarts = new SweepStarts(problem, SWEEP_POINTS);
+  const first = whole(start, bestStarts);
   if (!first?.points) return first && { ...first, start: first.curve };
   // A part that cannot move the curve (`LocalProblem.inert`) is not tried (its trial would never move) but in the straightforward search.
   const tried = bands.map((_, i) => i).filter((i) => i !== swept && bands[i]!.high > bands[i]!.low && (sweepAll || !problem.inert(i)));
@@ -209,13 +213,15 @@ function extremeCorner(
     const b = bands[i]!;
     const values = Float64Array.from(best.values);
     values[i] = values[i] === b.low ? b.high : b.low;
-    const point = trial(values, best.point);
+    const starts = new SweepStarts(problem, SWEEP_POINTS, bestStarts);
+    const point = trial(values, best.point, starts);
     if (typeof point === 'number' && sign * point < sign * best.point) {
       best = { values, point };
+      bestStarts = starts;
       sinceMove = 1;
     } else sinceMove++;
   }
-  const kept = best.values === start ? first : whole(best.values);
+  const kept = best.values === start ? first : whole(best.values, new SweepStarts(problem, SWEEP_POINTS, bestStarts));
   if (kept) return { ...kept, start: first.curve };
   // The corner kept does not solve at a point its trial never reached: the search again,
   // every corner tried swept whole, so that a corner that does not sweep is never kept.
@@ -233,14 +239,14 @@ function extremeCorner(
  * each would. The flat stretch before the last two steps short of the bound is passed on
  * few points where it can be (`flatStretch`), the steps beside the bound one by one. A VIH
  * curve still at a slope of −1 at its top with no crossing is swept whole, as only the
- * whole curve tells its point. Undefined where a point does not solve.
+ * whole curve tells its point. Undefined where a point does not solve. The points solved
+ * go to \`starts\`.
  */
-export function trialPoint(problem: LocalProblem, values: Float64Array, swept: number, range: { from: number; to: number }, which: 'vil' | 'vih', bound: number): number | 'no better' | undefined {
+export function trialPoint(problem: LocalProblem, values: Float64Array, swept: number, range: { from: number; to: number }, which: 'vil' | 'vih', bound: number, starts = new SweepStarts(problem, SWEEP_POINTS)): number | 'no better' | undefined {
   const n = SWEEP_POINTS;
   const vin = new Array<number>(n).fill(Number.NaN);
   const vout = new Array<number>(n).fill(Number.NaN);
   const at = (k: number) => range.from + ((range.to - range.from) * k) / (n - 1);
-  const starts = new SweepStarts(problem, n);
   const solved = (k: number) => {
     if (!Number.isNaN(vout[k]!)) return true;
     values[swept] = at(k);
