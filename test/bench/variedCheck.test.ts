@@ -13,7 +13,7 @@ function checked(stages: number) {
   return { design, graph, check };
 }
 
-describe("check of the varied register against the straightforward path and the whole circuit", () => {
+describe('check of the varied register against the straightforward path and the whole circuit', () => {
   it('gives every receiving input the thresholds of the straightforward search (every part tried, every corner tried swept whole, nothing shared) within 1 mV, at 200 stages', () => {
     // Oracle: the same unity-gain thresholds (Hodges and Jackson) searched with none of
     // check's shortcuts: the partial sweeps of a trial corner, the flat stretch passed on
