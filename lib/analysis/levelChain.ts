@@ -561,7 +561,6 @@ export class LevelChain {
     return worst;
   }
 
-  /** Solves one case of one net: nominal, and the worst vertex for its sense. */
   /** The key of a case's result: the net's region kind, the conducting driver's position, and the levels around it. */
   private caseKey(c: LevelCase, net: ChainNet): string {
     const input = net.polarity === 'input';
@@ -569,6 +568,7 @@ export class LevelChain {
     return `${net.kind}#${position}#${this.levelKey(net, input ? undefined : c.on)}`;
   }
 
+  /** Solves one case of one net: nominal, and the worst vertex for its sense. */
   solveCase(c: LevelCase, net: ChainNet = this.nets.get(c.net)!): CaseResult {
     const input = net.polarity === 'input';
     const on = input ? undefined : c.on;
