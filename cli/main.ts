@@ -8,7 +8,7 @@ import { STEP_HELP, STEP_SUMMARY, runStep, type StepCliOptions } from './step.js
 import { PULSE_HELP, PULSE_SUMMARY, runPulse, type PulseCliOptions } from './pulse.js';
 import { REPORT_HELP, REPORT_SUMMARY, runReport, type ReportCliOptions } from './report.js';
 import { SWEEP_HELP, SWEEP_SUMMARY, runSweep, type SweepCliOptions } from './sweep.js';
-import { SHOW_HELP, SHOW_SUMMARY, runShow } from './show.js';
+import { SHOW_HELP, SHOW_SUMMARY, runShow, type ShowOptions } from './show.js';
 import { SOLVE_HELP, SOLVE_SUMMARY, runSolve, type SolveCliOptions } from './solve.js';
 import { TUBES_SUMMARY, runTubes } from './tubes.js';
 
@@ -21,6 +21,7 @@ const COMMAND_EXAMPLES: Record<string, { line: string[]; what: string }[]> = {
   show: [
     { line: ['tubemargin show nets/crate-tally.tube'], what: 'the expanded design: rails, tube types, stages, nets and loops' },
     { line: ['tubemargin show nets/crate-tally.tube --json > crate.json'], what: 'the same as tubemargin.design/1 JSON, which every command reads' },
+    { line: ['tubemargin show nets/nor-adder.tube --svg adder.svg'], what: 'a drawing of stages and nets, each net coloured by its worst margin' },
   ],
   solve: [
     { line: ['tubemargin solve nets/nor-adder.tube'], what: 'the DC operating point: every node, section and resistor' },
@@ -119,8 +120,12 @@ export async function runCli(argv: string[], io: CliIo): Promise<number> {
     .description(SHOW_SUMMARY + '\n' + reflow(SHOW_HELP))
     .argument('<file>', 'design file (.tube text or .json)')
     .option('--json', 'print the flat design as tubemargin.design/1 JSON')
-    .action((file: string, opts: { json?: boolean }) => {
-      code = runShow(file, { ...program.opts(), ...opts }, io);
+    .option('--svg <FILE>', 'draw the design, nets coloured by worst-case margin, to an SVG file')
+    .option('--fold', 'draw block instances and arrays as one box each')
+    .option('--unfold', 'draw every stage as its own box, however big the design')
+    .option('--no-margins', 'draw without running a check (nets uncoloured)')
+    .action(async (file: string, opts: ShowOptions) => {
+      code = await runShow(file, { ...program.opts(), ...opts }, io);
     });
 
   // No default for a repeatable option: help would print it as '(default: [])'; the commands read an absent list as empty.

@@ -3,6 +3,11 @@ import { formatSI } from '../netlist/units.js';
 
 export { formatSI };
 
+/** Escapes text for HTML and SVG content and attribute values. */
+export function escapeHtml(text: string): string {
+  return text.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
+}
+
 /**
  * A current or power a builder could read on the bench: below a pico-unit it shows as 0, so
  * a cut-off section reads 0 A and 0 W alike (its plate current times its plate voltage once

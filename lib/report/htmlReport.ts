@@ -8,18 +8,17 @@ import { findLibraryEntry } from '../models/library.js';
 import { logicThreshold, type OperatingPoint } from '../solve/operatingPoint.js';
 import { butterflyChart, histogramChart, marginChart, marginRows, MAX_WAVE_ROWS, PALETTE, svgOf, sweepChart, transferChart, waveformChart } from './charts.js';
 import { DEFINITIONS, DEFINITION_HEADINGS, definitionKeys } from './checkReport.js';
-import { formatReading, formatSI } from './format.js';
+import { escapeHtml, formatReading, formatSI } from './format.js';
 import { CAUTION_PREFIX, safetyCautions, sweptLevels, type AppliedLevel } from './safety.js';
 import type { Diagnostic } from '../source/diagnostic.js';
-import { compareNames } from '../graph/stageGraph.js';
+import { buildStageGraph, compareNames } from '../graph/stageGraph.js';
+import { drawDesign, FOLD_ABOVE } from './drawing.js';
+
+export { escapeHtml };
 
 /** The first line of every report: `report` overwrites a file only when it starts so (its own earlier output). */
 export const REPORT_MARK = '<!doctype html><!-- tubemargin report -->';
 
-/** Escapes text for HTML content and attribute values. */
-export function escapeHtml(text: string): string {
-  return text.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
-}
 
 /**
  * Escapes prose for HTML and keeps each number with what follows it: the space after a
@@ -93,11 +92,24 @@ export async function renderHtmlReport(input: HtmlReportInput): Promise<string> 
   // A supply map's rails at the farthest values swept to, as well as at their tolerance.
   parts.push(cautionSection(safetyCautions(design, input.sweep ? sweptLevels(input.sweep.axes) : [])));
 
+  // The drawing: each net coloured by its slack and linked to its row in the table of nets.
+  const rowId = (net: string) => `net-${net}`;
+  const drawing = await drawDesign(design, buildStageGraph(design), { check, link: (net) => `#${encodeURIComponent(rowId(net))}` });
+  const weakLinks = check.nets
+    .filter((n) => n.status !== 'unchecked')
+    .slice(0, 5)
+    .map((n) => `<a href="#${escapeHtml(encodeURIComponent(rowId(n.name)))}">${e(n.name)}</a>`);
+  parts.push(
+    `<section id="drawing"><h2>The design</h2><div class="drawing">${drawing.svg.slice(drawing.svg.indexOf('<svg'))}</div><p class="caption">${e(
+      `Each stage is a box with a pin per input; each net runs from the stage that drives it to every input it feeds, coloured by its worst-case slack above the required margin (darkest weakest); failing nets are thick and dashed, undecided ones dotted. Hover over a net for its levels; click it for its row below.${drawing.folded ? ` The design has more than ${FOLD_ABOVE} stages: each block instance or array is drawn as one box.` : ''}`,
+    )}${weakLinks.length > 0 ? ` Weakest: ${weakLinks.join(', ')}.` : ''}</p></section>`,
+  );
+
   const netsTable =
     `<section id="nets"><h2>Nets, weakest first</h2><table><thead><tr><th>net</th><th>driver</th><th>fan-out</th><th>worst high</th><th>worst low</th><th>NM_H</th><th>NM_L</th><th>cutoff</th><th>drive</th><th>more loads</th><th>status</th></tr></thead><tbody>${check.nets
       .map(
         (n) =>
-          `<tr class="${n.status}"><td>${e(n.name)}</td><td>${e(n.driver)}</td><td>${n.fanout}</td><td>${v(n.high?.worst)}</td><td>${v(n.low?.worst)}</td><td>${v(n.margin.high)}</td><td>${v(n.margin.low)}</td><td>${v(n.cutoffMargin?.volts)}</td><td>${v(n.driveMargin?.volts)}</td><td>${n.headroom ?? '—'}</td><td>${n.status === 'fail' ? `FAIL: ${e(n.reasons.join('; '))}` : e(n.status)}</td></tr>`,
+          `<tr class="${n.status}" id="${escapeHtml(`net-${n.name}`)}"><td>${e(n.name)}</td><td>${e(n.driver)}</td><td>${n.fanout}</td><td>${v(n.high?.worst)}</td><td>${v(n.low?.worst)}</td><td>${v(n.margin.high)}</td><td>${v(n.margin.low)}</td><td>${v(n.cutoffMargin?.volts)}</td><td>${v(n.driveMargin?.volts)}</td><td>${n.headroom ?? '—'}</td><td>${n.status === 'fail' ? `FAIL: ${e(n.reasons.join('; '))}` : e(n.status)}</td></tr>`,
       )
       .join('')}</tbody></table></section>`;
 
@@ -363,6 +375,7 @@ function facts(design: Design, op: OperatingPoint | undefined): string {
 
 const STYLE = `
 body{margin:0 auto;max-width:1100px;padding:24px 32px;background:#fbf8f1;color:${PALETTE.ink};font:15px/1.5 Georgia,serif}
+.drawing{overflow:auto;max-height:75vh;background:#fff;border:1px solid #e6e2d8}.drawing svg{display:block}.caption{font-size:13px;color:#444}
 h1{font-size:28px;margin:0 0 4px}h2{font-size:20px;border-bottom:2px solid #e6e2d8;padding-bottom:4px;margin-top:32px}
 .source{color:#6b6f80;margin:0}.verdict{font-size:20px;font-weight:bold;padding:10px 14px;border-left:8px solid}
 .verdict.pass{border-color:${PALETTE.pass};background:#e4f1ec}.verdict.fail{border-color:${PALETTE.fail};background:#f6e3e5}.verdict.undecided{border-color:${PALETTE.undecided};background:#f7f0d9}.verdict.done{border-color:${PALETTE.guide};background:#eef0f3}
