@@ -1,3 +1,4 @@
+import { benchDrawing, drawingTable } from './drawBench.js';
 import { readFileSync, writeFileSync } from 'node:fs';
 import { buildStageGraph, loadDesign } from '../lib/index.js';
 import { generateRegister } from './generate.js';
@@ -188,6 +189,10 @@ process.stdout.write(pulseTable + '\n');
 const startup = startupTable(benchStartup());
 process.stdout.write(startup + '\n');
 
+// ---- drawing -----------------------------------------------------------------------------
+const drawing = drawingTable(await benchDrawing(), 'npm run bench');
+process.stdout.write(drawing + '\n');
+
 if (process.argv.includes('--write')) {
   const path = new URL('../../docs/PERFORMANCE.md', import.meta.url);
   let doc = readFileSync(path, 'utf8');
@@ -208,6 +213,7 @@ if (process.argv.includes('--write')) {
   put('sampling', samplingTable);
   put('pulse', pulseTable);
   put('startup', startup);
+  put('drawing', drawing);
   writeFileSync(path, doc);
   process.stdout.write('docs/PERFORMANCE.md updated\n');
 }

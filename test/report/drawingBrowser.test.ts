@@ -6,7 +6,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { buildStageGraph } from '../../lib/index.js';
 import { readDesignFile, type CliIo } from '../../cli/io.js';
 import { runCli } from '../../cli/main.js';
-import { ROOT, demoDesigns, load, netsFiles } from '../helpers.js';
+import { generateVariedRegister } from '../../bench/generate.js';
+import { ROOT, demoDesigns, design, load, netsFiles } from '../helpers.js';
 
 /**
  * The drawing (`show --svg`, and the report's first section) opened in a real browser:
@@ -107,6 +108,23 @@ describe('the drawing in a browser', () => {
       await page.close();
     }, 60_000);
   }
+
+  it('a varied 240-stage register, unfolded and folded: no label on another or on a box, one group per net', async () => {
+    const file = join(OUT, 'varied.tube');
+    writeFileSync(file, generateVariedRegister(240, 3));
+    const nets = buildStageGraph(design(generateVariedRegister(240, 3))).nets.map((n) => n.name);
+    for (const fold of ['--unfold', '--fold']) {
+      const out = join(OUT, `varied${fold}.svg`);
+      const run = await cli(['show', file, '--svg', out, fold, '--no-margins']);
+      expect(run.code, run.err).toBe(0);
+      const { page, errors, measured } = await open(`file://${out}`);
+      expect(measured.problems, fold).toEqual([]);
+      expect(errors).toEqual([]);
+      if (fold === '--unfold') expect(Object.keys(measured.groups).sort()).toEqual([...nets].sort());
+      else expect(Object.keys(measured.groups).sort()).toEqual(['c[…]', 'clk_n', 'nq[…]', 'q[…]', 's[…]', 'x0[…]', 'x1[…]']);
+      await page.close();
+    }
+  }, 120_000);
 
   it('stands at the top of the report, each net linked to its row in the table of nets', async () => {
     const out = join(OUT, 'crate-report.html');
