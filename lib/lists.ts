@@ -51,3 +51,17 @@ export function firstOfEach<T>(items: readonly T[], key: (item: T) => string): T
     return !seen.has(k) && seen.add(k) !== undefined;
   });
 }
+
+/**
+ * The value of `key` in `map`, made by `make` and stored first when it is missing.
+ *
+ * Example: `entry(byNet, 'q', () => []).push(pin)` gathers pins by net.
+ */
+export function entry<K, V>(map: Map<K, V>, key: K, make: () => V): V {
+  let value = map.get(key);
+  if (value === undefined) {
+    value = make();
+    map.set(key, value);
+  }
+  return value;
+}

@@ -2,6 +2,7 @@ import type { ElkNode } from 'elkjs/lib/elk-api.js';
 import type { CheckResult, NetCheck } from '../analysis/check.js';
 import type { Design, Part } from '../design/model.js';
 import type { StageGraph } from '../graph/stageGraph.js';
+import { entry } from '../lists.js';
 import { escapeHtml } from './format.js';
 
 /**
@@ -169,14 +170,14 @@ function netStroke(check: NetCheck | undefined, top: number): { kind: string; at
 function drawingModel(design: Design, graph: StageGraph, fold: boolean): { units: Unit[]; nets: DrawnNet[]; boxOfNet: Map<string, string> } {
   const parts = new Map(design.parts.map((p) => [p.name, p]));
   const feedersOf = new Map<string, string[]>();
-  for (const n of graph.nets) for (const r of n.receivers) (feedersOf.get(r.section) ?? feedersOf.set(r.section, []).get(r.section)!).push(n.name);
+  for (const n of graph.nets) for (const r of n.receivers) entry(feedersOf, r.section, () => []).push(n.name);
   const stages = graph.nets.filter((n) => n.kind === 'stage');
   const inputs = graph.nets.filter((n) => n.kind === 'input');
   const key = fold ? patternOf : (n: string) => n;
   const boxOfNet = new Map<string, string>();
   const boxes: Box[] = [];
   const netMembers = new Map<string, string[]>();
-  for (const n of graph.nets) (netMembers.get(key(n.name)) ?? netMembers.set(key(n.name), []).get(key(n.name))!).push(n.name);
+  for (const n of graph.nets) entry(netMembers, key(n.name), () => []).push(n.name);
 
   for (const n of inputs) {
     const detail = inputDetail(design, n.name);
@@ -196,8 +197,8 @@ function drawingModel(design: Design, graph: StageGraph, fold: boolean): { units
     const tops = new Map<string, Set<string>>();
     for (const n of stages) {
       const { group, top } = foldOf(n);
-      (groups.get(group) ?? groups.set(group, []).get(group)!).push(n.name);
-      (tops.get(group) ?? tops.set(group, new Set()).get(group)!).add(top);
+      entry(groups, group, () => []).push(n.name);
+      entry(tops, group, () => new Set()).add(top);
     }
     for (const [g, members] of groups) for (const m of members) boxOfNet.set(m, `gr:${g}`);
     const nodes = new Map(stages.map((x) => [x.name, x]));
@@ -207,7 +208,7 @@ function drawingModel(design: Design, graph: StageGraph, fold: boolean): { units
       const outputs = new Set<string>();
       for (const m of members) {
         for (const d of nodes.get(m)!.drivers)
-          for (const f of feedersOf.get(d) ?? []) if (boxOfNet.get(f) !== id) (pinNets.get(key(f)) ?? pinNets.set(key(f), new Set()).get(key(f))!).add(f);
+          for (const f of feedersOf.get(d) ?? []) if (boxOfNet.get(f) !== id) entry(pinNets, key(f), () => new Set()).add(f);
         const node = nodes.get(m)!;
         if (node.receivers.length === 0 || node.receivers.some((r) => r.output === undefined || boxOfNet.get(r.output) !== id)) outputs.add(key(m));
       }
@@ -293,7 +294,7 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
   // more than `TAG_FANOUT` pins from outside (a clock line, a reset) is drawn as a tag at
   // each pin, as a drawing office would draw a bus, not as hundreds of wires across the page.
   type Link = { unit: Unit; box: Box; pin: number; from: string; net: string };
-  const inside: Link[] = [];
+  const inside = new Map<Unit, Link[]>();
   const outside: Link[] = [];
   for (const u of units) {
     const inUnit = new Set(u.boxes.map((b) => b.id));
@@ -305,7 +306,7 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
           const net = key(f);
           if (from === undefined || seen.has(`${from}|${net}`)) continue;
           seen.add(`${from}|${net}`);
-          (inUnit.has(from) ? inside : outside).push({ unit: u, box, pin: k, from, net });
+          (inUnit.has(from) ? entry(inside, u, () => []) : outside).push({ unit: u, box, pin: k, from, net });
         }
       });
   }
@@ -315,9 +316,7 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
   /** The tag text of each pin fed by tagged nets, by unit. */
   const tags = new Map<string, Map<string, { box: Box; pin: number; nets: string[] }>>();
   for (const l of outside.filter((l) => tagged(l.net))) {
-    const byPin = tags.get(l.unit.id) ?? tags.set(l.unit.id, new Map()).get(l.unit.id)!;
-    const at = byPin.get(`${l.box.id}|${l.pin}`) ?? byPin.set(`${l.box.id}|${l.pin}`, { box: l.box, pin: l.pin, nets: [] }).get(`${l.box.id}|${l.pin}`)!;
-    at.nets.push(l.net);
+    entry(entry(tags, l.unit.id, () => new Map()), `${l.box.id}|${l.pin}`, () => ({ box: l.box, pin: l.pin, nets: [] as string[] })).nets.push(l.net);
   }
   const tagText = (nets: string[]) => nets.map(shorten).join(', ');
   const shapes = new Map(units.map((u) => [u.id, unitShape(u, Math.max(0, ...[...(tags.get(u.id)?.values() ?? [])].map((t) => textWidth(tagText(t.nets), TAG_PX) + 8)))]));
@@ -332,7 +331,7 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
   for (const l of outside) {
     if (tagged(l.net)) continue;
     edges.push({ id: `e${edges.length}`, sources: [outPort(l.from, l.net)], targets: [inPort(l.box.id, l.pin)], net: l.net });
-    (wired.get(l.unit.id) ?? wired.set(l.unit.id, new Set()).get(l.unit.id)!).add(inPort(l.box.id, l.pin));
+    entry(wired, l.unit.id, () => new Set()).add(inPort(l.box.id, l.pin));
   }
   const children = units.map((u) => {
     const shape = shapes.get(u.id)!;
@@ -372,7 +371,7 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
   // Where each unit landed.
   const at = new Map((laid.children ?? []).map((c) => [c.id, { x: c.x ?? 0, y: c.y ?? 0 }]));
   const paths = new Map<string, string[]>();
-  const addPath = (net: string, d: string) => (paths.get(net) ?? paths.set(net, []).get(net)!).push(d);
+  const addPath = (net: string, d: string) => entry(paths, net, () => []).push(d);
   const pt = (x: number, y: number) => `${x.toFixed(1)} ${y.toFixed(1)}`;
   for (const e of laid.edges ?? []) {
     const net = edges[Number(e.id.slice(1))]!.net;
@@ -401,7 +400,7 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
       );
     }
     // A latch's cross-coupling: from the output stub down (or up) into the gap between the boxes, back along it and round to the pin.
-    inside.filter((l) => l.unit === u).forEach((l, lane) => {
+    (inside.get(u) ?? []).forEach((l, lane) => {
       const src = shape.boxes.find((q) => q.box.id === l.from)!;
       const dst = placedOf(u, l.box);
       const sx = o.x + src.x + src.w + 3 + 4 * (lane % 2);
@@ -417,7 +416,7 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
       const py = o.y + pinY(dst, t.pin);
       const end = o.x + shape.tagRoom;
       for (const net of t.nets) addPath(net, `M${pt(end - 2, py)}L${pt(o.x + dst.x, py)}`);
-      (tagSvg.get(t.nets[0]!) ?? tagSvg.set(t.nets[0]!, []).get(t.nets[0]!)!).push(`<text class="tag" x="${pt(end - 4, py + TAG_PX * 0.35).replace(' ', '" y="')}" text-anchor="end">${esc(tagText(t.nets))}</text>`);
+      entry(tagSvg, t.nets[0]!, () => []).push(`<text class="tag" x="${(end - 4).toFixed(1)}" y="${(py + TAG_PX * 0.35).toFixed(1)}" text-anchor="end">${esc(tagText(t.nets))}</text>`);
     }
   }
 
