@@ -8,8 +8,11 @@ export const FIT_SUMMARY = 'fit a tube model to your own bench readings (CSV)';
 
 export const FIT_HELP = `
 Reads bench readings (CSV with a header row: tube,plate_v,grid_v,plate_ma, and for
-pentodes screen_v and optionally screen_ma; volts against the cathode, milliamps),
-fits the chosen model kind to them, one perveance factor per tube, and prints a type
+pentodes screen_v and optionally screen_ma; volts against the cathode, milliamps), or
+meter readings of the plate across a known load, the tube in a stage on the bench
+(tube,supply_v,load_ohms,plate_v with grid_v or the grid's divider
+drive_v,series_ohms,pulldown_ohms,bias_v, and optionally meter_ohms: the plate current
+is (supply - plate) / load less the meter's share), fits the chosen model kind to them, one perveance factor per tube, and prints a type
 definition to include in a design: the parameters, the spread the tubes showed, the
 plate voltages to trust it over and how well it fits. Refuses too few or degenerate
 readings rather than give a wild fit. -o writes the definition to a file (only a new

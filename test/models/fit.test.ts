@@ -112,3 +112,77 @@ describe('reading a readings file', () => {
     expect(missing.diagnostics.map((d) => d.code)).toEqual(['csv-column']);
   });
 });
+
+describe('readings across a plate load (a voltmeter on the plate of a tube in a stage)', () => {
+  /**
+   * A bench stage solved by bisection, independently of the tool's solver: the supply
+   * drives the plate through the load, which carries the plate current and the
+   * voltmeter's (Ohm's law and Kirchhoff's current law at the plate).
+   */
+  function platePoint(model: TubeModel, factor: number, supply: number, load: number, grid: number, meter: number): number {
+    const excess = (vp: number) => supply - vp - load * (tubeCurrents(model, { vgk: grid, vak: vp, vg2k: 0 }, { ...NOMINAL_VARIATION, perveance: factor }).plate + vp / meter);
+    let lo = 0;
+    let hi = supply;
+    for (let k = 0; k < 200; k++) {
+      const mid = (lo + hi) / 2;
+      if (excess(mid) > 0) lo = mid;
+      else hi = mid;
+    }
+    return (lo + hi) / 2;
+  }
+  const dividerTap = (drive: number, series: number, pulldown: number, bias: number) => (drive * pulldown + bias * series) / (series + pulldown);
+
+  it('turns each row into the plate current by Ohm\'s law, the meter\'s share taken off, and the grid into its divider\'s tap', () => {
+    const text = 'tube,supply_v,load_ohms,plate_v,drive_v,series_ohms,pulldown_ohms,bias_v,meter_ohms\nA,24,100000,4.0,0,220000,220000,-12,10000000\n';
+    const r = parseReadings('bench.csv', text);
+    expect(r.diagnostics).toEqual([]);
+    expect(r.value[0]!.gridVolts).toBeCloseTo(-6, 12);
+    expect(r.value[0]!.plateAmps).toBeCloseTo(20 / 100e3 - 4 / 10e6, 15);
+  });
+
+  it('fits the Koren triode to plate voltages of a latch-like bench stage as well as to plate currents: the fit predicts the true currents within 2 %', () => {
+    const factors = { A: 0.92, B: 1.08 };
+    const meter = 10e6;
+    const rows: string[] = [];
+    for (const [tube, f] of Object.entries(factors))
+      for (const supply of [24, 36, 48, 60])
+        for (const load of [33e3, 100e3, 220e3])
+          for (const drive of [-6, 0, 6, 12])
+            for (const pulldown of [150e3, 220e3, 330e3]) {
+              const grid = dividerTap(drive, 220e3, pulldown, -12);
+              if (grid > 0) continue;
+              const vp = platePoint(TRIODE, f, supply, load, grid, meter);
+              // A 3½-digit meter on its 200 V range: readings to 0.1 V, so only points that the reading resolves to 2 %.
+              const read = Math.round(vp * 10) / 10;
+              if (supply - read < 0.5) continue;
+              rows.push(`${tube},${supply},${load},${read},${drive},220000,${pulldown},-12,${meter}`);
+            }
+    const parsed = parseReadings('bench.csv', `tube,supply_v,load_ohms,plate_v,drive_v,series_ohms,pulldown_ohms,bias_v,meter_ohms\n${rows.join('\n')}\n`);
+    expect(parsed.diagnostics).toEqual([]);
+    expect(parsed.value.length).toBeGreaterThan(60);
+    const answer = fitReadings(parsed.value, 'koren-triode');
+    if ('refusal' in answer) throw new Error(answer.refusal);
+    const fitted = { ...TRIODE, ...answer.fit.model } as TubeModel;
+    const g = geometricMean(Object.values(factors));
+    // Over the plates and grids of the readings, the fitted type and tube factors give the true currents.
+    let worst = 0;
+    for (const reading of parsed.value) {
+      const f = factors[reading.tube as keyof typeof factors];
+      const truth = tubeCurrents(TRIODE, { vgk: reading.gridVolts, vak: reading.plateVolts, vg2k: 0 }, { ...NOMINAL_VARIATION, perveance: f }).plate;
+      const model = tubeCurrents(fitted, { vgk: reading.gridVolts, vak: reading.plateVolts, vg2k: 0 }, { ...NOMINAL_VARIATION, perveance: answer.fit.perTube[reading.tube]! }).plate;
+      if (truth > 20e-6) worst = Math.max(worst, Math.abs(model / truth - 1));
+    }
+    expect(worst).toBeLessThan(0.02);
+    for (const [t, f] of Object.entries(factors)) expect(Math.abs(answer.fit.perTube[t]! / (f / g) - 1), t).toBeLessThan(0.03);
+  });
+
+  it('refuses a row whose divider lifts the grid above the cathode, a plate above its supply and a load of 0 Ω, each at its line and column', () => {
+    const text = 'tube,supply_v,load_ohms,plate_v,drive_v,series_ohms,pulldown_ohms,bias_v\nA,24,100000,4,0,220000,220000,-12\nA,24,100000,4,24,100000,220000,-12\nA,24,100000,30,0,220000,220000,-12\nA,24,0,4,0,220000,220000,-12\n';
+    const r = parseReadings('bench.csv', text);
+    expect(r.diagnostics.map((d) => `${d.span!.start.line}:${d.span!.start.col} ${d.code}`)).toEqual(['3:15 csv-value', '4:13 csv-value', '5:6 csv-value']);
+    expect(r.diagnostics[0]!.message).toContain('grid at +12.75 V') // (24 V · 220 k − 12 V · 100 k) / 320 k;
+    expect(r.value).toHaveLength(1);
+    const missing = parseReadings('bench.csv', 'tube,supply_v,load_ohms,plate_v\nA,24,100000,4\n');
+    expect(missing.diagnostics.map((d) => d.message)).toEqual(['the header lacks drive_v, series_ohms, pulldown_ohms, bias_v: readings across a plate load need tube, supply_v, load_ohms and plate_v, and grid_v or the divider drive_v, series_ohms, pulldown_ohms and bias_v']);
+  });
+});
