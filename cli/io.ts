@@ -1,5 +1,5 @@
 import { readFileSync, statSync, writeFileSync } from 'node:fs';
-import { dirname, join, normalize } from 'node:path';
+import { dirname, isAbsolute, join, normalize } from 'node:path';
 import type { SourceLoader } from '../lib/index.js';
 import { MAX_SOURCE_CHARS } from '../lib/index.js';
 
@@ -59,10 +59,10 @@ export function processIo(): CliIo {
   };
 }
 
-/** Resolves `include "…"` relative to the including file and reads it through `io`. */
+/** Resolves `include "…"` relative to the including file (an absolute path as it is) and reads it through `io`. */
 export function fileLoader(io: CliIo): SourceLoader {
   return (request, from) => {
-    const file = normalize(join(dirname(from), request));
+    const file = normalize(isAbsolute(request) ? request : join(dirname(from), request));
     try {
       return { file, text: io.readFile(file) };
     } catch (e) {

@@ -61,8 +61,12 @@ interface Box {
   pins: Pin[];
   /** The nets (or patterns) this box drives, each leaving it on the east side. */
   outputs: string[];
+  /** Outputs that feed no input anywhere: drawn with their name at the end of their stub. */
+  ends: string[];
   /** For a group: the stages it holds. */
   members: string[];
+  /** For a group: the worst verdict among the nets its stages drive (drawn on its outline). */
+  status?: 'fail' | 'undecided';
 }
 
 /** What the layout places: one box, or a latch's two stages stacked. */
@@ -93,7 +97,9 @@ const TAG_PX = 10;
 export const TAG_FANOUT = 12;
 
 const textWidth = (text: string, px: number) => Math.ceil(text.length * px * ADVANCE);
-export const shorten = (name: string) => (name.length > LABEL_CHARS ? `${name.slice(0, LABEL_CHARS - 1)}…` : name);
+export const shorten = (name: string, most = LABEL_CHARS) => (name.length > most ? `${name.slice(0, most - 1)}…` : name);
+/** Longest detail line a box shows whole (the type and NOR count, or a folded box's counts). */
+const DETAIL_CHARS = 40;
 const esc = escapeHtml;
 
 /**
@@ -103,8 +109,9 @@ const esc = escapeHtml;
  * lightest keeps 2.5:1 contrast on white.
  */
 export const SLACK_STOPS = ['#3b0f4f', '#8a1f5c', '#bf4b2c', '#a9791a', '#7c9c3a', '#56ac86'] as const;
-/** Colour of a net with no check behind it, and of a net check does not judge. */
-const PLAIN = '#555555';
+/** Colour of a net with no check behind it, and of a net check does not judge; and of an undecided net (dotted). */
+const PLAIN = '#8a8a8a';
+const UNDECIDED = '#222222';
 
 /** The colour of a point `t` (0–1) along the slack scale, between the stops. */
 export function slackColour(t: number): string {
@@ -149,21 +156,85 @@ function inputDetail(design: Design, net: string): string {
 
 const volts = (x: number | undefined) => (x === undefined || !Number.isFinite(x) ? '—' : `${x.toFixed(2)} V`);
 
-/** A net's tooltip: its levels, margins and verdict. */
+/**
+ * What sets a net's slack (the colour it is drawn in), as check works it out: the smaller
+ * noise margin less the required one, each level's distance past the logic threshold less
+ * the required margin, or the cutoff margin, whichever is least.
+ */
+export function slackSource(n: NetCheck, required: number): string | undefined {
+  const less = `less the required ${volts(required)}`;
+  const limits: [string, number | undefined][] = [
+    [`NM_H ${less}`, n.margin.high === undefined ? undefined : n.margin.high - required],
+    [`NM_L ${less}`, n.margin.low === undefined ? undefined : n.margin.low - required],
+    [`its worst high above the logic threshold, ${less}`, n.high ? n.high.worst - n.thresholdVolts - required : undefined],
+    [`its worst low below the logic threshold, ${less}`, n.low ? n.thresholdVolts - n.low.worst - required : undefined],
+    ['its cutoff margin', n.cutoffMargin?.volts],
+  ];
+  let best: [string, number] | undefined;
+  for (const [what, v] of limits) if (v !== undefined && (best === undefined || v < best[1])) best = [what, v];
+  return best?.[0];
+}
+
+/** A net's tooltip: its verdict, its slack and what sets it, its levels and margins, and why it fails. */
 function netTitle(name: string, count: number, check: NetCheck | undefined, required: number | undefined): string {
   const head = count > 1 ? `${name} (${count} nets)` : name;
   if (!check) return head;
   const which = count > 1 ? `; weakest ${check.name}` : '';
   const status = check.status === 'fail' ? 'FAILS' : check.status === 'undecided' ? 'UNDECIDED' : check.status === 'unchecked' ? 'not judged' : 'passes';
-  return `${head}${which}: ${status}; worst high ${volts(check.high?.worst)}, worst low ${volts(check.low?.worst)}; NM_H ${volts(check.margin.high)}, NM_L ${volts(check.margin.low)}${required === undefined ? '' : ` (required ${volts(required)})`}; fan-out ${check.fanout}`;
+  const source = required === undefined ? undefined : slackSource(check, required);
+  const slack = Number.isFinite(check.slack) && source ? `; slack ${volts(check.slack)}: ${source}` : '';
+  const cutoff = check.cutoffMargin ? `, cutoff margin ${volts(check.cutoffMargin.volts)}` : '';
+  const why = check.status === 'fail' || check.status === 'undecided' ? (check.reasons[0] ? `; ${check.reasons[0]}` : '') : '';
+  return `${head}${which}: ${status}${slack}; worst high ${volts(check.high?.worst)}, worst low ${volts(check.low?.worst)}; NM_H ${volts(check.margin.high)}, NM_L ${volts(check.margin.low)}${cutoff}; fan-out ${check.fanout}${why}`;
 }
 
 /** How a net is stroked: colour along the slack scale, and a pattern for failing and undecided nets. */
-function netStroke(check: NetCheck | undefined, top: number): { kind: string; attrs: string } {
-  if (!check || check.status === 'unchecked') return { kind: '', attrs: `stroke="${PLAIN}" stroke-width="1.2"` };
-  if (check.status === 'fail') return { kind: ' fails', attrs: `stroke="${SLACK_STOPS[0]}" stroke-width="3.2" stroke-dasharray="9 3"` };
-  if (check.status === 'undecided') return { kind: ' undecided', attrs: `stroke="#222222" stroke-width="2.4" stroke-dasharray="1.5 3"` };
-  return { kind: '', attrs: `stroke="${slackColour(check.slack / top)}" stroke-width="1.6"` };
+function netStroke(check: NetCheck | undefined, top: number): { kind: string; colour: string; attrs: string } {
+  const stroke = (kind: string, colour: string, rest: string) => ({ kind, colour, attrs: `stroke="${colour}" ${rest}` });
+  if (!check || check.status === 'unchecked') return stroke('', PLAIN, 'stroke-width="1.2"');
+  if (check.status === 'fail') return stroke(' fails', SLACK_STOPS[0], 'stroke-width="3.2" stroke-dasharray="9 3"');
+  if (check.status === 'undecided') return stroke(' undecided', UNDECIDED, 'stroke-width="2.4" stroke-dasharray="1.5 3"');
+  return stroke('', slackColour(check.slack / top), 'stroke-width="1.6"');
+}
+
+type Point = [number, number];
+
+const pathData = (points: Point[]) => `M${points.map(([x, y]) => `${x.toFixed(1)} ${y.toFixed(1)}`).join('L')}`;
+
+/**
+ * Where a net's wires branch: the points where its segments leave in three or four
+ * directions. Two wires that only cross meet in four directions too, but never two of one
+ * net, whose wires the layout merges where they run together; so a dot marks a branch,
+ * and a crossing without a dot is two nets passing.
+ */
+export function junctions(paths: Point[][]): Point[] {
+  if (paths.length < 2) return [];
+  const near = (a: number, b: number) => Math.abs(a - b) < 0.5;
+  const segments: [Point, Point][] = paths.flatMap((p) => p.slice(1).map((q, k): [Point, Point] => [p[k]!, q]));
+  const found: Point[] = [];
+  for (const point of paths.flat()) {
+    if (found.some((f) => near(f[0], point[0]) && near(f[1], point[1]))) continue;
+    const ways = new Set<string>();
+    const way = (from: Point, to: Point) => ways.add(Math.abs(to[0] - from[0]) > Math.abs(to[1] - from[1]) ? (to[0] > from[0] ? 'E' : 'W') : to[1] > from[1] ? 'S' : 'N');
+    for (const [a, b] of segments) {
+      if (near(a[0], b[0]) && near(a[1], b[1])) continue;
+      if (near(point[0], a[0]) && near(point[1], a[1])) way(a, b);
+      else if (near(point[0], b[0]) && near(point[1], b[1])) way(b, a);
+      else if (onSegment(point, a, b)) {
+        way(point, a);
+        way(point, b);
+      }
+    }
+    if (ways.size >= 3) found.push(point);
+  }
+  return found;
+}
+
+/** True when `p` lies strictly inside the axis-parallel segment a–b (within half a pixel). */
+function onSegment(p: Point, a: Point, b: Point): boolean {
+  if (Math.abs(a[0] - b[0]) < 0.5) return Math.abs(p[0] - a[0]) < 0.5 && p[1] > Math.min(a[1], b[1]) && p[1] < Math.max(a[1], b[1]);
+  if (Math.abs(a[1] - b[1]) < 0.5) return Math.abs(p[1] - a[1]) < 0.5 && p[0] > Math.min(a[0], b[0]) && p[0] < Math.max(a[0], b[0]);
+  return false;
 }
 
 /** The boxes and nets of a drawing, before layout. */
@@ -181,7 +252,7 @@ function drawingModel(design: Design, graph: StageGraph, fold: boolean): { units
 
   for (const n of inputs) {
     const detail = inputDetail(design, n.name);
-    boxes.push({ id: `in:${n.name}`, kind: 'input', name: n.name, detail, title: `${n.name}: ${detail}`, pins: [], outputs: [key(n.name)], members: [] });
+    boxes.push({ id: `in:${n.name}`, kind: 'input', name: n.name, detail, title: `${n.name}: ${detail}`, pins: [], outputs: [key(n.name)], ends: n.receivers.length === 0 ? [key(n.name)] : [], members: [] });
     boxOfNet.set(n.name, `in:${n.name}`);
   }
   if (!fold) {
@@ -189,7 +260,7 @@ function drawingModel(design: Design, graph: StageGraph, fold: boolean): { units
       const sections = n.drivers.map((d) => parts.get(d)!).filter(Boolean);
       const pins = n.drivers.map((d) => ({ feeders: feedersOf.get(d) ?? [] }));
       const detail = stageDetail(sections);
-      boxes.push({ id: `st:${n.name}`, kind: 'stage', name: n.name, detail, title: `stage ${n.name}: ${detail}; inputs ${pins.map((p) => p.feeders.join(' + ') || '(none)').join(', ')}`, pins, outputs: [n.name], members: [n.name] });
+      boxes.push({ id: `st:${n.name}`, kind: 'stage', name: n.name, detail, title: `stage ${n.name}: ${detail}; inputs ${pins.map((p) => p.feeders.join(' + ') || '(none)').join(', ')}`, pins, outputs: [n.name], ends: n.receivers.length === 0 ? [n.name] : [], members: [n.name] });
       boxOfNet.set(n.name, `st:${n.name}`);
     }
   } else {
@@ -217,7 +288,8 @@ function drawingModel(design: Design, graph: StageGraph, fold: boolean): { units
       const single = members.length === 1 && !array && g === members[0];
       const detail = single ? stageDetail(nodes.get(members[0]!)!.drivers.map((d) => parts.get(d)!)) : `${members.length} stages`;
       const pins = [...pinNets.keys()].sort().map((k) => ({ feeders: [...pinNets.get(k)!] }));
-      boxes.push({ id, kind: single ? 'stage' : 'group', name, detail, title: `${name}: ${members.length === 1 ? `stage ${members[0]}, ${detail}` : `${members.length} stages (${members.slice(0, 6).join(', ')}${members.length > 6 ? ', …' : ''})`}`, pins, outputs: [...outputs].sort(), members });
+      const ends = single && nodes.get(members[0]!)!.receivers.length === 0 ? [key(members[0]!)] : [];
+      boxes.push({ id, kind: single ? 'stage' : 'group', name, detail, title: `${name}: ${members.length === 1 ? `stage ${members[0]}, ${detail}` : `${members.length} stages (${members.slice(0, 6).join(', ')}${members.length > 6 ? ', …' : ''})`}`, pins, outputs: [...outputs].sort(), ends, members });
     }
   }
 
@@ -247,24 +319,41 @@ interface Placed {
   h: number;
 }
 
-/** A box's size, from its label and its pins. */
+/** Height of a box's name and detail lines. */
+const HEAD = NAME_PX + DETAIL_PX + 3 * PAD;
+/** Font size (px) of a folded box's port names. */
+const PORT_PX = 9;
+
+/** The label of a folded box's pin: the net pattern (or patterns) it takes. */
+const pinLabel = (b: Box, k: number) => shorten([...new Set(b.pins[k]!.feeders.map(patternOf))].join(', '));
+
+/**
+ * A box's size, from its labels and its pins. A folded box lists its ports below its
+ * name, inputs on the left and outputs on the right, one row each; a stage spreads its
+ * pins down its side.
+ */
 function boxSize(b: Box): { w: number; h: number } {
-  const w = Math.max(textWidth(shorten(b.name), NAME_PX), textWidth(shorten(b.detail), DETAIL_PX), 40) + 2 * PAD;
-  const h = Math.max(NAME_PX + DETAIL_PX + 3 * PAD, (b.pins.length + 1) * PIN_STEP);
-  return { w, h };
+  const head = Math.max(textWidth(shorten(b.name), NAME_PX), textWidth(shorten(b.detail, DETAIL_CHARS), DETAIL_PX), 40);
+  if (b.kind === 'group') {
+    const left = Math.max(0, ...b.pins.map((_, k) => textWidth(pinLabel(b, k), PORT_PX)));
+    const right = Math.max(0, ...b.outputs.map((o) => textWidth(shorten(o), PORT_PX)));
+    return { w: Math.max(head, left + right + 16) + 2 * PAD, h: HEAD + Math.max(b.pins.length, b.outputs.length, 1) * PIN_STEP };
+  }
+  return { w: head + 2 * PAD, h: Math.max(HEAD, (b.pins.length + 1) * PIN_STEP) };
 }
 
 /** Where each box of a unit sits in it, and where its pins and outputs are (unit coordinates). */
 function unitShape(u: Unit, tagRoom: number): Shape {
   const sizes = u.boxes.map(boxSize);
   const w = Math.max(...sizes.map((s) => s.w));
+  const endRoom = Math.max(0, ...u.boxes.flatMap((b) => b.ends.map((n) => textWidth(shorten(n), TAG_PX) + 6)));
   let y = 0;
   const placed = u.boxes.map((box, k) => {
     const p = { box, x: tagRoom + LEFT, y, w, h: sizes[k]!.h };
     y += sizes[k]!.h + LATCH_GAP;
     return p;
   });
-  return { w: tagRoom + LEFT + w + RIGHT, h: y - LATCH_GAP, boxes: placed, tagRoom };
+  return { w: tagRoom + LEFT + w + RIGHT + endRoom, h: y - LATCH_GAP, boxes: placed, tagRoom };
 }
 
 interface Shape {
@@ -275,8 +364,8 @@ interface Shape {
   tagRoom: number;
 }
 
-const pinY = (p: Placed, k: number) => p.y + (k + 1) * (p.h / (p.box.pins.length + 1));
-const outY = (p: Placed, k: number) => p.y + (k + 1) * (p.h / (p.box.outputs.length + 1));
+const pinY = (p: Placed, k: number) => (p.box.kind === 'group' ? p.y + HEAD + (k + 0.5) * PIN_STEP : p.y + (k + 1) * (p.h / (p.box.pins.length + 1)));
+const outY = (p: Placed, k: number) => (p.box.kind === 'group' ? p.y + HEAD + (k + 0.5) * PIN_STEP : p.y + (k + 1) * (p.h / (p.box.outputs.length + 1)));
 
 /**
  * Lays out and draws a design. Async: the layout library runs its own event-driven
@@ -288,6 +377,17 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
   const fold = options.fold ?? stageCount > FOLD_ABOVE;
   const { units, nets, boxOfNet } = drawingModel(design, graph, fold);
   const key = fold ? patternOf : (n: string) => n;
+  const checks = new Map((options.check?.nets ?? []).map((n) => [n.name, n]));
+  // A folded box says how many of the nets inside it fail or are undecided, and its outline shows the worst.
+  for (const u of units)
+    for (const b of u.boxes) {
+      if (b.kind !== 'group') continue;
+      const count = (status: string) => b.members.filter((m) => checks.get(m)?.status === status).length;
+      const [failing, undecided] = [count('fail'), count('undecided')];
+      b.status = failing > 0 ? 'fail' : undecided > 0 ? 'undecided' : undefined;
+      b.detail += `${failing > 0 ? ` · ${failing} fail` : ''}${undecided > 0 ? ` · ${undecided} undecided` : ''}`;
+      b.title += failing + undecided > 0 ? `; ${failing} failing and ${undecided} undecided nets inside` : '';
+    }
 
   // Every pin's feeders, each from a box and net once: inside its unit (a latch's
   // cross-coupling, drawn here) or from outside (a wire the layout routes). A net that feeds
@@ -318,7 +418,7 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
   for (const l of outside.filter((l) => tagged(l.net))) {
     entry(entry(tags, l.unit.id, () => new Map()), `${l.box.id}|${l.pin}`, () => ({ box: l.box, pin: l.pin, nets: [] as string[] })).nets.push(l.net);
   }
-  const tagText = (nets: string[]) => nets.map(shorten).join(', ');
+  const tagText = (nets: string[]) => nets.map((n) => shorten(n)).join(', ');
   const shapes = new Map(units.map((u) => [u.id, unitShape(u, Math.max(0, ...[...(tags.get(u.id)?.values() ?? [])].map((t) => textWidth(tagText(t.nets), TAG_PX) + 8)))]));
 
   // The layout graph: a node per unit, a west port per pin wired from outside the unit, an east port per output.
@@ -370,14 +470,14 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
 
   // Where each unit landed.
   const at = new Map((laid.children ?? []).map((c) => [c.id, { x: c.x ?? 0, y: c.y ?? 0 }]));
-  const paths = new Map<string, string[]>();
-  const addPath = (net: string, d: string) => entry(paths, net, () => []).push(d);
-  const pt = (x: number, y: number) => `${x.toFixed(1)} ${y.toFixed(1)}`;
+  const paths = new Map<string, Point[][]>();
+  const addPath = (net: string, ...points: Point[]) => entry(paths, net, () => []).push(points);
   for (const e of laid.edges ?? []) {
     const net = edges[Number(e.id.slice(1))]!.net;
-    for (const s of e.sections ?? []) addPath(net, `M${[s.startPoint, ...(s.bendPoints ?? []), s.endPoint].map((p) => pt(p.x, p.y)).join('L')}`);
+    for (const s of e.sections ?? []) addPath(net, ...[s.startPoint, ...(s.bendPoints ?? []), s.endPoint].map((p): Point => [p.x, p.y]));
   }
   const portsOf = new Map(children.map((c) => [c.id, new Map(c.ports.map((q) => [q.id, q]))]));
+  const leaving = new Set(edges.flatMap((e) => e.sources));
   const tagSvg = new Map<string, string[]>();
   const boxesSvg: string[] = [];
   for (const u of units) {
@@ -387,15 +487,29 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
       const x = o.x + p.x;
       const y = o.y + p.y;
       // Stubs: each output from the box's edge to the unit's east side, each outside-fed pin from the west side.
-      p.box.outputs.forEach((net, k) => addPath(net, `M${pt(x + p.w, o.y + outY(p, k))}L${pt(o.x + shape.w, o.y + outY(p, k))}`));
+      p.box.outputs.forEach((net, k) => {
+        const sy = o.y + outY(p, k);
+        if (!p.box.ends.includes(net)) {
+          // Only to where a wire leaves: a latch net that feeds only its partner has its wire inside the unit.
+          if (leaving.has(outPort(p.box.id, net)) || (reach.has(net) && tagged(net))) addPath(net, [x + p.w, sy], [o.x + shape.w, sy]);
+          return;
+        }
+        // A net that feeds nothing: a short stub and its name, so that it shows (an output to the world, or a net left over).
+        addPath(net, [x + p.w, sy], [x + p.w + RIGHT - 2, sy]);
+        entry(tagSvg, net, () => []).push(`<text class="end" x="${(x + p.w + RIGHT).toFixed(1)}" y="${(sy + TAG_PX * 0.35).toFixed(1)}">${esc(shorten(net))}</text>`);
+      });
       p.box.pins.forEach((_, k) => {
         const port = portsOf.get(u.id)!.get(`i|${p.box.id}|${k}`);
-        if (port) boxesSvg.push(`<path class="stub" d="M${pt(o.x, o.y + port.y)}L${pt(x, o.y + port.y)}"/>`);
+        if (port) boxesSvg.push(`<path class="stub" d="${pathData([[o.x, o.y + port.y], [x, o.y + port.y]])}"/>`);
       });
       boxesSvg.push(
-        `<g class="box ${p.box.kind}" data-box="${esc(p.box.id.slice(3))}"><title>${esc(p.box.title)}</title><rect x="${x}" y="${y}" width="${p.w}" height="${p.h}" rx="${p.box.kind === 'input' ? 10 : 2}"/>` +
-          `<text class="name" x="${x + PAD}" y="${y + PAD + NAME_PX * 0.85}">${esc(shorten(p.box.name))}</text><text class="detail" x="${x + PAD}" y="${y + 2 * PAD + NAME_PX + DETAIL_PX * 0.85}">${esc(shorten(p.box.detail))}</text>` +
+        `<g class="box ${p.box.kind}${p.box.status ? ` ${p.box.status}` : ''}" data-box="${esc(p.box.id.slice(3))}"><title>${esc(p.box.title)}</title><rect x="${x}" y="${y}" width="${p.w}" height="${p.h}" rx="${p.box.kind === 'input' ? 10 : 2}"/>` +
+          `<text class="name" x="${x + PAD}" y="${y + PAD + NAME_PX * 0.85}">${esc(shorten(p.box.name))}</text><text class="detail" x="${x + PAD}" y="${y + 2 * PAD + NAME_PX + DETAIL_PX * 0.85}">${esc(shorten(p.box.detail, DETAIL_CHARS))}</text>` +
           p.box.pins.map((_, k) => `<circle class="pin" cx="${x}" cy="${(o.y + pinY(p, k)).toFixed(1)}" r="2"/>`).join('') +
+          (p.box.kind === 'group'
+            ? p.box.pins.map((_, k) => `<text class="port" x="${x + PAD}" y="${(o.y + pinY(p, k) + PORT_PX * 0.35).toFixed(1)}">${esc(pinLabel(p.box, k))}</text>`).join('') +
+              p.box.outputs.map((net, k) => `<text class="port" x="${x + p.w - PAD}" y="${(o.y + outY(p, k) + PORT_PX * 0.35).toFixed(1)}" text-anchor="end">${esc(shorten(net))}</text>`).join('')
+            : '') +
           `</g>`,
       );
     }
@@ -408,20 +522,19 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
       const gapY = o.y + Math.min(src.y, dst.y) + Math.min(src.h, dst.h) + 5 + 7 * (lane % 2);
       const lx = o.x + shape.tagRoom + 4 + 5 * (lane % 2);
       const py = o.y + pinY(dst, l.pin);
-      addPath(l.net, `M${pt(sx, sy)}L${pt(sx, gapY)}L${pt(lx, gapY)}L${pt(lx, py)}L${pt(o.x + dst.x, py)}`);
+      addPath(l.net, [o.x + src.x + src.w, sy], [sx, sy], [sx, gapY], [lx, gapY], [lx, py], [o.x + dst.x, py]);
     });
     // Tags: the net's name at the pin, right-aligned against a short wire to it.
     for (const t of tags.get(u.id)?.values() ?? []) {
       const dst = placedOf(u, t.box);
       const py = o.y + pinY(dst, t.pin);
       const end = o.x + shape.tagRoom;
-      for (const net of t.nets) addPath(net, `M${pt(end - 2, py)}L${pt(o.x + dst.x, py)}`);
+      for (const net of t.nets) addPath(net, [end - 2, py], [o.x + dst.x, py]);
       entry(tagSvg, t.nets[0]!, () => []).push(`<text class="tag" x="${(end - 4).toFixed(1)}" y="${(py + TAG_PX * 0.35).toFixed(1)}" text-anchor="end">${esc(tagText(t.nets))}</text>`);
     }
   }
 
   // The nets, each one group however many wires it has; only those drawn at all.
-  const checks = new Map((options.check?.nets ?? []).map((n) => [n.name, n]));
   const required = options.check?.requiredMargin;
   const top = Math.max(2 * (required ?? 1), 1);
   const netSvg: string[] = [];
@@ -433,12 +546,13 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
     const rank = (c: NetCheck) => (c.status === 'fail' ? 0 : c.status === 'undecided' ? 1 : c.status === 'unchecked' ? 3 : 2);
     const weakest = judged.sort((a, b) => rank(a) - rank(b) || a.slack - b.slack)[0];
     const stroke = netStroke(weakest, top);
-    const group = `<g class="net${stroke.kind}" data-net="${esc(n.key)}" ${stroke.attrs}><title>${esc(netTitle(n.key, n.members.length, weakest, required))}</title>${d.map((p) => `<path d="${p}"/>`).join('')}${(tagSvg.get(n.key) ?? []).join('')}</g>`;
+    const dots = junctions(d).map(([x, y]) => `<circle class="junction" cx="${x.toFixed(1)}" cy="${y.toFixed(1)}" r="${stroke.kind ? 3.4 : 2.6}" fill="${stroke.colour}"/>`);
+    const group = `<g class="net${stroke.kind}" data-net="${esc(n.key)}" ${stroke.attrs}><title>${esc(netTitle(n.key, n.members.length, weakest, required))}</title>${d.map((p) => `<path d="${pathData(p)}"/>`).join('')}${dots.join('')}${(tagSvg.get(n.key) ?? []).join('')}</g>`;
     netSvg.push(options.link ? `<a href="${esc(options.link(weakest?.name ?? n.members[0]!))}">${group}</a>` : group);
   }
 
   // Above the layout: the rails, then the legend, each on its own line.
-  const width = Math.max(laid.width ?? 0, 560);
+  const width = Math.max(laid.width ?? 0, options.check ? 720 : 320);
   const railLine = `Rails: ${design.rails.map((r) => `${r.name} ${+r.volts.toFixed(3)} V ±${+(100 * r.tol).toFixed(2)} %`).join(', ') || 'none'}`;
   const head: string[] = [`<text class="rails" x="8" y="16">${esc(railLine)}</text>`];
   let headH = 24;
@@ -450,11 +564,12 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
     const failX = barX + barW + 70;
     head.push(
       `<defs><linearGradient id="slack-scale">${stops}</linearGradient></defs>`,
-      `<text class="legend" x="${barX}" y="${y}">slack above the required margin</text>`,
+      `<text class="legend" x="${barX}" y="${y}">${esc(`slack above the required ${volts(required)} margin`)}</text>`,
       `<rect x="${barX}" y="${y + 6}" width="${barW}" height="8" fill="url(#slack-scale)"/>`,
       `<text class="legend" x="${barX}" y="${y + 28}">0 V</text><text class="legend" x="${barX + barW}" y="${y + 28}" text-anchor="end">≥ ${top.toFixed(1)} V</text>`,
       `<path class="fails" d="M${failX} ${y + 10}h40" stroke="${SLACK_STOPS[0]}" stroke-width="3.2" stroke-dasharray="9 3"/><text class="legend" x="${failX + 46}" y="${y + 14}">fails</text>`,
-      `<path class="undecided" d="M${failX + 100} ${y + 10}h40" stroke="#222222" stroke-width="2.4" stroke-dasharray="1.5 3"/><text class="legend" x="${failX + 146}" y="${y + 14}">undecided</text>`,
+      `<path class="undecided" d="M${failX + 100} ${y + 10}h40" stroke="${UNDECIDED}" stroke-width="2.4" stroke-dasharray="1.5 3"/><text class="legend" x="${failX + 146}" y="${y + 14}">undecided</text>`,
+      `<path d="M${failX + 240} ${y + 10}h40" stroke="${PLAIN}" stroke-width="1.2"/><text class="legend" x="${failX + 286}" y="${y + 14}">not judged</text>`,
     );
     headH += 40;
   }
@@ -463,7 +578,7 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
   const svg =
     `${DRAWING_MARK}\n<svg xmlns="http://www.w3.org/2000/svg" class="tubemargin-drawing" width="${Math.ceil(svgWidth)}" height="${Math.ceil(height)}" viewBox="0 0 ${Math.ceil(svgWidth)} ${Math.ceil(height)}" font-family="DejaVu Sans Mono, Menlo, Consolas, monospace">` +
     `<title>${esc(`${design.title || 'design'}: ${fold ? 'folded drawing' : 'drawing'}`)}</title>` +
-    `<style>.box rect{fill:#fff;stroke:#222;stroke-width:1.2}.box.input rect{fill:#eeeeee}.box.group rect{stroke-width:2.4}.name{font-size:${NAME_PX}px;font-weight:bold;fill:#111}.detail{font-size:${DETAIL_PX}px;fill:#333}.rails,.legend{font-size:11px;fill:#111}.net{fill:none}.net text{stroke:none;fill:#111;font-size:${TAG_PX}px}.stub{stroke:#888;stroke-width:1;fill:none}.pin{fill:#222}</style>` +
+    `<style>.box rect{fill:#fff;stroke:#222;stroke-width:1.2}.box.input rect{fill:#eeeeee}.box.group rect{stroke-width:2.4}.name{font-size:${NAME_PX}px;font-weight:bold;fill:#111}.detail{font-size:${DETAIL_PX}px;fill:#333}.rails,.legend{font-size:11px;fill:#111}.net{fill:none}.net text{stroke:none;fill:#111;font-size:${TAG_PX}px}.stub{stroke:#888;stroke-width:1;fill:none}.pin{fill:#222}.port{font-size:${PORT_PX}px;fill:#333}.box.fail rect{stroke:${SLACK_STOPS[0]};stroke-width:3.2;stroke-dasharray:9 3}.box.undecided rect{stroke:${UNDECIDED};stroke-dasharray:1.5 3}.net circle{stroke:none}</style>` +
     head.join('') +
     `<g transform="translate(0 ${headH})">${netSvg.join('')}${boxesSvg.join('')}</g></svg>\n`;
   return { svg, folded: fold, boxes: units.reduce((s, u) => s + u.boxes.length, 0), nets: netSvg.length };

@@ -7,14 +7,14 @@ describe('show --svg', () => {
     const r = await runCommand(['show', 'nets/cap-counter.tube', '--svg', 'out.svg']);
     expect(r.code, r.err).toBe(0);
     expect(r.written['out.svg']!.startsWith(DRAWING_MARK)).toBe(true);
-    expect(r.written['out.svg']).toContain('slack above the required margin');
+    expect(r.written['out.svg']).toMatch(/slack above the required 5\.00 V margin/); // the cap counter's defaults { margin = 5 V }
     expect(r.err).toMatch(/^wrote out\.svg: \d+ boxes, \d+ nets; check (PASS|FAIL|UNDECIDED)\n$/);
   });
 
   it('draws without a check when told, nets uncoloured and no legend', async () => {
     const r = await runCommand(['show', 'nets/cap-counter.tube', '--svg', 'out.svg', '--no-margins']);
     expect(r.code, r.err).toBe(0);
-    expect(r.written['out.svg']).not.toContain('slack above the required margin');
+    expect(r.written['out.svg']).not.toContain('slack above the required');
     expect(r.err).not.toContain('check');
   });
 
@@ -36,6 +36,21 @@ describe('show --svg', () => {
     const alone = await runCommand(['show', 'nets/cap-counter.tube', '--fold']);
     expect(alone.code).toBe(2);
     expect(alone.err).toContain('add --svg FILE');
+  });
+
+  it('prints the drawing with --svg -, and refuses --json beside --svg', async () => {
+    const r = await runCommand(['show', 'nets/cap-counter.tube', '--svg', '-', '--no-margins']);
+    expect(r.code, r.err).toBe(0);
+    expect(r.out.startsWith(DRAWING_MARK)).toBe(true);
+    expect(r.written).toEqual({});
+    const both = await runCommand(['show', 'nets/cap-counter.tube', '--svg', 'a.svg', '--json']);
+    expect(both.code).toBe(2);
+    expect(both.err).toContain('--json and --svg exclude each other');
+  });
+
+  it('counts what it drew in words that agree with the numbers', async () => {
+    const r = await runCommand(['show', 'nets/cap-counter.tube', '--svg', 'f.svg', '--fold', '--no-margins']);
+    expect(r.err).toMatch(/^wrote f\.svg: \d+ boxes, 1 net \(folded\)\n$/);
   });
 
   it('folds on request: the crate tally has one box per block array', async () => {

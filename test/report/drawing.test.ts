@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { buildStageGraph, type Design } from '../../lib/index.js';
-import { drawDesign, LABEL_CHARS, SLACK_STOPS, slackColour, TAG_FANOUT } from '../../lib/report/drawing.js';
+import { drawDesign, junctions, LABEL_CHARS, SLACK_STOPS, slackColour, slackSource, TAG_FANOUT } from '../../lib/report/drawing.js';
 import { generateRegister, generateVariedRegister } from '../../bench/generate.js';
 import { checkOf, demoDesigns, design, load, netsFiles } from '../helpers.js';
 
@@ -102,6 +102,62 @@ stage nq { load 39 k to bp; screen bp; input q series 220 k pulldown 220 k to bi
       } else if (n.status === 'pass') expect(attrs).toContain(`stroke="${slackColour(n.slack / top)}"`);
     }
     expect(failing).toBeGreaterThan(0);
+  });
+});
+
+describe('what the drawing tells at a glance', () => {
+  it('puts a dot where one net\'s wires branch and none where they only run on or cross', () => {
+    // A tee: one wire runs on, another leaves it halfway.
+    expect(junctions([[[0, 0], [10, 0]], [[5, 0], [5, 10]]])).toEqual([[5, 0]]);
+    // Two wires laid over each other, and one wire with a bend: no branch.
+    expect(junctions([[[0, 0], [10, 0]], [[0, 0], [10, 0]]])).toEqual([]);
+    expect(junctions([[[0, 0], [10, 0], [10, 10]]])).toEqual([]);
+    // Two wires leaving one point in three directions.
+    expect(junctions([[[0, 0], [10, 0]], [[0, 0], [0, 10], [5, 10]], [[-4, 0], [0, 0]]])).toEqual([[0, 0]]);
+  });
+
+  it('on every demo, dots every net wired to more than one place and no net wired to one', async () => {
+    for (const file of demoDesigns()) {
+      const d = demo(file);
+      const { svg } = await drawDesign(d, buildStageGraph(d));
+      for (const [, net, body] of svg.matchAll(/<g class="net[^"]*" data-net="([^"]*)"[^>]*>(.*?)<\/g>/g)) {
+        if (body!.includes('class="tag"')) continue; // a net drawn as tags has no wires to branch
+        const wires = (body!.match(/<path /g) ?? []).length;
+        const dots = (body!.match(/class="junction"/g) ?? []).length;
+        // The driver's stub and one wire meet end to end; a third path must leave one of them somewhere.
+        if (wires <= 2) expect(dots, `${file} ${net}`).toBe(0);
+        else expect(dots, `${file} ${net}`).toBeGreaterThan(0);
+      }
+    }
+  });
+
+  it('names in each tooltip the limit that sets the net\'s colour, and why a failing net fails', async () => {
+    const d = demo('nets/nor-adder.tube');
+    const check = checkOf(d);
+    const { svg } = await drawDesign(d, buildStageGraph(d), { check });
+    for (const n of check.nets.filter((m) => m.status !== 'unchecked')) {
+      const title = new RegExp(`data-net="${n.name.replace(/[[\]]/g, '\\$&')}"[^>]*><title>([^<]*)</title>`).exec(svg)![1]!;
+      const source = slackSource(n, check.requiredMargin)!;
+      // The named limit is the one equal to the slack.
+      const value = source === 'its cutoff margin' ? n.cutoffMargin!.volts : source.startsWith('NM_H') ? n.margin.high! - check.requiredMargin : source.startsWith('NM_L') ? n.margin.low! - check.requiredMargin : source.includes('high') ? n.high!.worst - n.thresholdVolts - check.requiredMargin : n.thresholdVolts - n.low!.worst - check.requiredMargin;
+      expect(value, n.name).toBeCloseTo(n.slack, 9);
+      expect(title).toContain(`slack ${n.slack.toFixed(2)} V: ${source}`);
+      if (n.status === 'fail') expect(title).toContain(n.reasons[0]!.replace(/'/g, '&#39;'));
+    }
+  });
+
+  it('folded, marks a box whose nets fail, names its ports, and labels an output that feeds nothing', async () => {
+    const d = demo('nets/irrigation-sequencer.tube');
+    const check = checkOf(d);
+    // The nets driven by sections of the instances bed[1] … bed[4] (their sections' names start so).
+    const inside = new Set(buildStageGraph(d).nets.filter((n) => n.drivers.some((x) => x.startsWith('bed['))).map((n) => n.name));
+    const failingInside = check.nets.filter((n) => n.status === 'fail' && inside.has(n.name)).length;
+    expect(failingInside).toBeGreaterThan(0);
+    const folded = (await drawDesign(d, buildStageGraph(d), { check, fold: true })).svg;
+    expect(folded).toMatch(new RegExp(`<g class="box group fail" data-box="bed\\[\\]">.*?${failingInside} fail`));
+    expect(folded).toContain('<text class="port"');
+    const unfolded = (await drawDesign(d, buildStageGraph(d), { check })).svg;
+    for (const n of buildStageGraph(d).nets.filter((m) => m.receivers.length === 0)) expect(unfolded).toMatch(new RegExp(`data-net="${n.name.replace(/[[\]]/g, '\\$&')}".*?<text class="end"[^>]*>${n.name.replace(/[[\]]/g, '\\$&')}</text>`));
   });
 });
 
