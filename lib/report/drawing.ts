@@ -546,7 +546,8 @@ export async function drawDesign(design: Design, graph: StageGraph, options: Dra
     const rank = (c: NetCheck) => (c.status === 'fail' ? 0 : c.status === 'undecided' ? 1 : c.status === 'unchecked' ? 3 : 2);
     const weakest = judged.sort((a, b) => rank(a) - rank(b) || a.slack - b.slack)[0];
     const stroke = netStroke(weakest, top);
-    const dots = junctions(d).map(([x, y]) => `<circle class="junction" cx="${x.toFixed(1)}" cy="${y.toFixed(1)}" r="${stroke.kind ? 3.4 : 2.6}" fill="${stroke.colour}"/>`);
+    // A net drawn as tags has disjoint stubs only: nothing branches (and its hundreds of stubs would make the search slow).
+    const dots = (tags.size > 0 && tagSvg.has(n.key) && d.length > TAG_FANOUT ? [] : junctions(d)).map(([x, y]) => `<circle class="junction" cx="${x.toFixed(1)}" cy="${y.toFixed(1)}" r="${stroke.kind ? 3.4 : 2.6}" fill="${stroke.colour}"/>`);
     const group = `<g class="net${stroke.kind}" data-net="${esc(n.key)}" ${stroke.attrs}><title>${esc(netTitle(n.key, n.members.length, weakest, required))}</title>${d.map((p) => `<path d="${pathData(p)}"/>`).join('')}${dots.join('')}${(tagSvg.get(n.key) ?? []).join('')}</g>`;
     netSvg.push(options.link ? `<a href="${esc(options.link(weakest?.name ?? n.members[0]!))}">${group}</a>` : group);
   }
